@@ -1,0 +1,1 @@
+"""Customer-facing documents: test certificates and intake receipts."""

@@ -1,0 +1,1 @@
+"""Shared plumbing for every app: the error shape, pagination, versioning and permissions."""

@@ -1,0 +1,1 @@
+"""The single JSON error shape and the exception handler that produces it."""

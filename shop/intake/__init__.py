@@ -1,0 +1,1 @@
+"""Intake: customers, their units, repair jobs, job moves, repair steps and evidence."""
