@@ -4,8 +4,16 @@ from django.contrib import admin
 from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 
+from shop.core.auth_views import TokenObtainView
+
+handler404 = "shop.core.errors.json_not_found"
+handler500 = "shop.core.errors.json_server_error"
+
 urlpatterns = [
     path("admin/", admin.site.urls),
+    path("api/auth/", include("rest_framework.urls")),
+    path("api/auth/token/", TokenObtainView.as_view(), name="token-obtain"),
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
+    path("api/", include("shop.intake.urls")),
 ]

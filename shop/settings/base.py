@@ -28,7 +28,7 @@ SECRET_KEY = os.environ.get("SECRET_KEY", "")
 if not SECRET_KEY:
     if not DEBUG:
         raise ImproperlyConfigured(
-            "SECRET_KEY is not set. Set it in the environment (or set DEBUG=1 for local development)."
+            "SECRET_KEY is not set. Set it in the environment (or DEBUG=1 for local development)."
         )
     SECRET_KEY = "dev-only-insecure-key-never-use-in-production"  # noqa: S105
 
@@ -135,8 +135,9 @@ FILE_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [
-        "rest_framework.authentication.SessionAuthentication",
+        # Token first, so an anonymous caller gets 401 with a WWW-Authenticate challenge.
         "rest_framework.authentication.TokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
     "DEFAULT_PAGINATION_CLASS": "shop.core.pagination.ShopPagination",
@@ -165,7 +166,7 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
     "COMPONENT_SPLIT_REQUEST": True,
-    "ENUM_NAME_OVERRIDES": {},
+    "ENUM_NAME_OVERRIDES": {"JobStateEnum": "shop.intake.models.JobState"},
 }
 
 # The shop's identity, printed on receipts and certificates.

@@ -1,0 +1,241 @@
+"""JSON shapes of intake records, and validation of what clients send."""
+
+from __future__ import annotations
+
+from decimal import Decimal
+
+from django.contrib.auth import get_user_model
+from drf_spectacular.utils import extend_schema_field
+from rest_framework import serializers
+
+from .models import Customer, Evidence, Job, JobMove, JobState, RepairStep, Unit
+from .workflow import allowed_targets
+
+MAX_PARTS_PER_STEP = 100
+
+
+class CustomerSerializer(serializers.ModelSerializer):
+    """A customer with contact details (front desk and leads)."""
+
+    class Meta:
+        model = Customer
+        fields = ["id", "name", "phone", "email", "notes", "version", "created_at", "updated_at"]
+        read_only_fields = ["version", "created_at", "updated_at"]
+
+
+class CustomerNameSerializer(serializers.ModelSerializer):
+    """A customer without contact details (what technicians see)."""
+
+    class Meta:
+        model = Customer
+        fields = ["id", "name", "version"]
+        read_only_fields = fields
+
+
+class UnitSerializer(serializers.ModelSerializer):
+    """A unit, its nameplate and construction; `chassis_may_be_live` flags isolation-only units."""
+
+    owner_name = serializers.CharField(source="owner.name", read_only=True)
+    chassis_may_be_live = serializers.BooleanField(read_only=True)
+
+    class Meta:
+        model = Unit
+        fields = [
+            "id",
+            "owner",
+            "owner_name",
+            "category",
+            "maker",
+            "model_name",
+            "serial",
+            "year",
+            "rated_voltage",
+            "rated_power",
+            "rated_power_unit",
+            "rated_frequency",
+            "fuse_rating",
+            "fuse_type",
+            "voltage_selector_as_found",
+            "construction",
+            "protection_class",
+            "cord",
+            "chassis_may_be_live",
+            "condition_notes",
+            "version",
+            "created_at",
+            "updated_at",
+        ]
+        read_only_fields = ["version", "created_at", "updated_at"]
+
+
+class UnitBriefSerializer(serializers.ModelSerializer):
+    """The few facts about a unit that every job view shows."""
+
+    chassis_may_be_live = serializers.BooleanField(read_only=True)
+
+    class Meta:
+        model = Unit
+        fields = ["id", "maker", "model_name", "serial", "construction", "chassis_may_be_live"]
+        read_only_fields = fields
+
+
+def technician_queryset():
+    return get_user_model().objects.filter(is_active=True)
+
+
+class JobSerializer(serializers.ModelSerializer):
+    """A repair job; its state changes only through the transition endpoint."""
+
+    unit_summary = UnitBriefSerializer(source="unit", read_only=True)
+    customer = serializers.IntegerField(source="unit.owner_id", read_only=True)
+    customer_name = serializers.CharField(source="unit.owner.name", read_only=True)
+    assigned_technician = serializers.PrimaryKeyRelatedField(
+        queryset=technician_queryset(), allow_null=True, required=False
+    )
+    assigned_technician_name = serializers.CharField(
+        source="assigned_technician.username", read_only=True, default=None
+    )
+    allowed_targets = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Job
+        fields = [
+            "id",
+            "number",
+            "unit",
+            "unit_summary",
+            "customer",
+            "customer_name",
+            "complaint",
+            "received_on",
+            "promised_on",
+            "assigned_technician",
+            "assigned_technician_name",
+            "estimate",
+            "approved_by",
+            "approved_at",
+            "state",
+            "held_from",
+            "allowed_targets",
+            "version",
+            "created_at",
+            "updated_at",
+        ]
+        read_only_fields = [
+            "number",
+            "state",
+            "held_from",
+            "version",
+            "created_at",
+            "updated_at",
+        ]
+
+    @extend_schema_field(serializers.ListField(child=serializers.ChoiceField(JobState.choices)))
+    def get_allowed_targets(self, job: Job) -> list[str]:
+        return allowed_targets(job.state, job.held_from)
+
+    def validate_unit(self, unit):
+        if self.instance is not None and unit.pk != self.instance.unit_id:
+            raise serializers.ValidationError("A job's unit cannot change; open a new job.")
+        return unit
+
+
+class JobTransitionSerializer(serializers.Serializer):
+    """A request to move a job to another state."""
+
+    to_state = serializers.ChoiceField(choices=JobState.choices)
+    note = serializers.CharField(max_length=2000, required=False, allow_blank=True, default="")
+    approved_by = serializers.CharField(
+        max_length=200,
+        required=False,
+        allow_blank=True,
+        default="",
+        help_text="Who gave the customer's approval (needed to move to repairing).",
+    )
+
+
+class JobMoveSerializer(serializers.ModelSerializer):
+    """One recorded change of a job's state."""
+
+    moved_by = serializers.CharField(source="moved_by.username", read_only=True)
+
+    class Meta:
+        model = JobMove
+        fields = ["id", "from_state", "to_state", "moved_by", "moved_at", "note"]
+        read_only_fields = fields
+
+
+class PartSerializer(serializers.Serializer):
+    """One part used in a repair step."""
+
+    part = serializers.CharField(max_length=200)
+    quantity = serializers.DecimalField(
+        max_digits=10,
+        decimal_places=3,
+        min_value=Decimal("0.001"),
+        max_value=Decimal("100000"),
+        coerce_to_string=False,
+    )
+    note = serializers.CharField(max_length=500, required=False, allow_blank=True, default="")
+
+    def to_internal_value(self, data):
+        value = super().to_internal_value(data)
+        value["quantity"] = float(value["quantity"])
+        return value
+
+
+class RepairStepSerializer(serializers.ModelSerializer):
+    """A repair step (append-only); a correction names the step it corrects."""
+
+    parts = PartSerializer(many=True, required=False, max_length=MAX_PARTS_PER_STEP)
+    technician = serializers.CharField(source="technician.username", read_only=True)
+
+    class Meta:
+        model = RepairStep
+        fields = [
+            "id",
+            "job",
+            "technician",
+            "performed_at",
+            "action",
+            "parts",
+            "minutes",
+            "corrects",
+            "created_at",
+        ]
+        read_only_fields = ["technician", "created_at"]
+        extra_kwargs = {"performed_at": {"required": False}}
+
+
+class EvidenceSerializer(serializers.ModelSerializer):
+    """A stored evidence file's record (the bytes come from its download link)."""
+
+    uploaded_by = serializers.CharField(source="uploaded_by.username", read_only=True)
+    download = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Evidence
+        fields = [
+            "id",
+            "job",
+            "label",
+            "content_type",
+            "size",
+            "sha256",
+            "uploaded_by",
+            "uploaded_at",
+            "download",
+        ]
+        read_only_fields = fields
+
+    def get_download(self, evidence: Evidence) -> str:
+        request = self.context.get("request")
+        path = f"/api/evidence/{evidence.pk}/download/"
+        return request.build_absolute_uri(path) if request else path
+
+
+class EvidenceUploadSerializer(serializers.Serializer):
+    """A file to attach to a job (multipart form: `job` and `file`)."""
+
+    job = serializers.PrimaryKeyRelatedField(queryset=Job.objects.all())
+    file = serializers.FileField(allow_empty_file=False, max_length=255)

@@ -1,0 +1,293 @@
+"""Writes for intake records: each validates, runs in one transaction and bumps versions."""
+
+from __future__ import annotations
+
+import hashlib
+from datetime import date
+
+from django.conf import settings
+from django.core.exceptions import ValidationError
+from django.db import IntegrityError, transaction
+from django.db.models import F
+from django.utils import timezone
+
+from shop.core.errors import ApplicationError, Conflict, Forbidden
+from shop.core.roles import TECHNICIAN, has_role, user_roles
+from shop.core.versioning import check_version, versioned_update
+
+from .models import (
+    Customer,
+    Evidence,
+    Job,
+    JobMove,
+    JobNumberCounter,
+    JobState,
+    RepairStep,
+    Unit,
+)
+from .sniffing import SNIFF_BYTES, UnacceptableFile, sniff
+from .workflow import allowed_targets, role_may_move_to
+
+CUSTOMER_FIELDS = ("name", "phone", "email", "notes")
+UNIT_FIELDS = (
+    "owner",
+    "category",
+    "maker",
+    "model_name",
+    "serial",
+    "year",
+    "rated_voltage",
+    "rated_power",
+    "rated_power_unit",
+    "rated_frequency",
+    "fuse_rating",
+    "fuse_type",
+    "voltage_selector_as_found",
+    "construction",
+    "protection_class",
+    "cord",
+    "condition_notes",
+)
+JOB_FIELDS = (
+    "complaint",
+    "received_on",
+    "promised_on",
+    "assigned_technician",
+    "estimate",
+    "approved_by",
+    "approved_at",
+)
+HASH_CHUNK = 1 << 20
+
+
+def _create(model, fields: dict):
+    instance = model(**fields)
+    instance.full_clean()
+    instance.save()
+    return instance
+
+
+@transaction.atomic
+def customer_create(*, name: str, phone: str = "", email: str = "", notes: str = "") -> Customer:
+    return _create(Customer, {"name": name, "phone": phone, "email": email, "notes": notes})
+
+
+@transaction.atomic
+def customer_update(*, customer: Customer, expected_version: int | None, **changes) -> Customer:
+    return versioned_update(
+        customer, expected=expected_version, changes=_only(changes, CUSTOMER_FIELDS)
+    )
+
+
+@transaction.atomic
+def unit_create(**fields) -> Unit:
+    return _create(Unit, _only(fields, UNIT_FIELDS))
+
+
+@transaction.atomic
+def unit_update(*, unit: Unit, expected_version: int | None, **changes) -> Unit:
+    return versioned_update(unit, expected=expected_version, changes=_only(changes, UNIT_FIELDS))
+
+
+def _only(fields: dict, allowed: tuple[str, ...]) -> dict:
+    unknown = set(fields) - set(allowed)
+    if unknown:
+        raise ApplicationError(
+            f"Unknown field(s): {', '.join(sorted(unknown))}.", field=sorted(unknown)[0]
+        )
+    return fields
+
+
+def _check_technician(user) -> None:
+    if user is not None and not has_role(user, TECHNICIAN):
+        raise ValidationError(
+            {"assigned_technician": f"{user.get_username()} is not in the technician group."}
+        )
+
+
+def job_number_allocate(*, year: int) -> str:
+    """Take the next job number of `year` ("2026-0042"), safe under concurrent intake.
+
+    Must run inside a transaction: the counter row stays locked until it commits.
+    """
+    counter = JobNumberCounter.objects.select_for_update().filter(year=year).first()
+    if counter is None:
+        try:
+            with transaction.atomic():
+                JobNumberCounter.objects.create(year=year, last=0)
+        except IntegrityError:
+            pass  # another intake created this year's counter first; lock theirs
+        counter = JobNumberCounter.objects.select_for_update().get(year=year)
+    JobNumberCounter.objects.filter(year=year).update(last=F("last") + 1)
+    counter.refresh_from_db()
+    return f"{year}-{counter.last:04d}"
+
+
+@transaction.atomic
+def job_create(*, unit: Unit, complaint: str, received_on: date | None = None, **fields) -> Job:
+    """Open a job for a unit and give it the next number of its intake year."""
+    received_on = received_on or timezone.localdate()
+    _only(fields, JOB_FIELDS)
+    _check_technician(fields.get("assigned_technician"))
+    job = Job(unit=unit, complaint=complaint, received_on=received_on, **fields)
+    job.number = "pending"
+    job.full_clean(exclude=["number"])
+    job.number = job_number_allocate(year=received_on.year)
+    job.save()
+    return job
+
+
+@transaction.atomic
+def job_update(*, job: Job, expected_version: int | None, **changes) -> Job:
+    _only(changes, JOB_FIELDS)
+    if "assigned_technician" in changes:
+        _check_technician(changes["assigned_technician"])
+    return versioned_update(job, expected=expected_version, changes=changes)
+
+
+@transaction.atomic
+def job_transition(
+    *,
+    job: Job,
+    to_state: str,
+    actor,
+    note: str = "",
+    expected_version: int | None = None,
+    approved_by: str = "",
+) -> Job:
+    """Move a job to `to_state` under a row lock, and record who moved it, when and why.
+
+    Moving from awaiting_approval to repairing needs the customer's approval: pass
+    `approved_by` (who approved) unless the job already records it.
+    """
+    locked = Job.objects.select_for_update().get(pk=job.pk)
+    check_version(locked, expected_version)
+    if to_state not in JobState.values:
+        raise ApplicationError(
+            f"'{to_state}' is not a job state. Known states: {', '.join(JobState.values)}.",
+            field="to_state",
+        )
+    targets = allowed_targets(locked.state, locked.held_from)
+    if to_state not in targets:
+        raise Conflict(
+            f"A job in '{locked.state}' cannot move to '{to_state}'. "
+            f"Allowed next: {', '.join(targets) or 'none (the job is closed)'}.",
+            field="to_state",
+            code="illegal_move",
+            extra={"allowed_targets": targets, "state": locked.state},
+        )
+    if not role_may_move_to(user_roles(actor), to_state):
+        raise Forbidden(
+            f"Your role may not move a job to '{to_state}'. Ask a shop lead.",
+            field="to_state",
+        )
+    changes: dict = {"state": to_state}
+    if to_state == JobState.ON_HOLD:
+        changes["held_from"] = locked.state
+    elif locked.state == JobState.ON_HOLD:
+        changes["held_from"] = ""
+    if locked.state == JobState.AWAITING_APPROVAL and to_state == JobState.REPAIRING:
+        if approved_by:
+            changes.update(approved_by=approved_by, approved_at=timezone.now())
+        elif not locked.approved_by:
+            raise ApplicationError(
+                "Record who approved the repair (approved_by) before moving to repairing.",
+                field="approved_by",
+                code="approval_required",
+            )
+    JobMove.objects.create(
+        job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note
+    )
+    return versioned_update(locked, expected=None, changes=changes)
+
+
+@transaction.atomic
+def repair_step_add(
+    *,
+    job: Job,
+    technician,
+    action: str,
+    parts: list[dict] | None = None,
+    minutes: int = 0,
+    performed_at=None,
+    corrects: RepairStep | None = None,
+) -> RepairStep:
+    """Append a repair step; a correction names the step it corrects, on the same job."""
+    if corrects is not None and corrects.job_id != job.pk:
+        raise ApplicationError(
+            "A correction must refer to a step of the same job.", field="corrects"
+        )
+    if job.state == JobState.RETURNED:
+        raise Conflict(
+            "The job is closed (returned); open a new job for further work.",
+            field="job",
+            code="job_closed",
+        )
+    step = RepairStep(
+        job=job,
+        technician=technician,
+        action=action,
+        parts=parts or [],
+        minutes=minutes,
+        performed_at=performed_at or timezone.now(),
+        corrects=corrects,
+    )
+    step.full_clean()
+    step.save()
+    return step
+
+
+def _digest_and_head(upload) -> tuple[str, bytes]:
+    sha = hashlib.sha256()
+    head = b""
+    upload.seek(0)
+    for chunk in upload.chunks(HASH_CHUNK):
+        if len(head) < SNIFF_BYTES:
+            head += chunk[: SNIFF_BYTES - len(head)]
+        sha.update(chunk)
+    upload.seek(0)
+    return sha.hexdigest(), head
+
+
+def evidence_attach(*, job: Job, upload, uploaded_by) -> tuple[Evidence, bool]:
+    """Store an uploaded file on a job; return (record, created).
+
+    The same content twice on one job answers the existing record with created=False.
+    """
+    limit = settings.EVIDENCE_MAX_BYTES
+    if upload.size > limit:
+        raise ApplicationError(
+            f"The file is {upload.size} bytes; the limit is {limit} bytes.",
+            field="file",
+            code="file_too_large",
+        )
+    digest, head = _digest_and_head(upload)
+    label = (upload.name or "")[:255]
+    try:
+        kind = sniff(head, label)
+    except UnacceptableFile as exc:
+        raise ApplicationError(str(exc), field="file", code="file_type_refused") from exc
+    existing = Evidence.objects.filter(job=job, sha256=digest).first()
+    if existing:
+        return existing, False
+    evidence = Evidence(
+        job=job,
+        label=label,
+        content_type=kind.content_type,
+        extension=kind.extension,
+        size=upload.size,
+        sha256=digest,
+        uploaded_by=uploaded_by,
+    )
+    evidence.file.save("upload", upload, save=False)
+    try:
+        with transaction.atomic():
+            evidence.save()
+    except IntegrityError:
+        # The same file arrived twice at once: keep the first record, drop our stored copy.
+        evidence.file.storage.delete(evidence.file.name)
+        return Evidence.objects.get(job=job, sha256=digest), False
+    except Exception:
+        evidence.file.storage.delete(evidence.file.name)
+        raise
+    return evidence, True
