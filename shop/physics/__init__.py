@@ -1,0 +1,1 @@
+"""Pure-physics model of a series-lamp current limiter: lamps, circuit, judgement."""

@@ -1,0 +1,833 @@
+"""Tungsten filament lamps and banks of them in parallel, as series current limiters."""
+
+from typing import NamedTuple
+
+import numpy as np
+from scipy import constants
+from scipy.interpolate import PchipInterpolator
+from scipy.optimize import least_squares
+
+from shop.physics.glow import GLOW_CLASSES, glow_class, luminance
+from shop.physics.materials import (
+    TABLE_MAX_TEMPERATURE,
+    TABLE_MIN_TEMPERATURE,
+    tungsten_emissivity,
+    tungsten_emissivity_derivative,
+    tungsten_resistivity,
+    tungsten_resistivity_derivative,
+)
+
+FILLS = ("gas", "vacuum", "halogen")
+
+RATED_VOLTAGE_RANGE = (6.0, 300.0)  # [V] from low-voltage lamps to 230-277 V mains lamps
+# [K] The table starts at 300 K, so a colder bench is refused rather than extrapolated; 350 K
+# (77 degC) is already hotter than any bench.
+AMBIENT_TEMPERATURE_RANGE = (TABLE_MIN_TEMPERATURE, 350.0)
+# [K] Below 1500 K tungsten gives almost no light; above 3400 K (photoflood lamps, from memory)
+# the filament would be within 300 K of melting (3695 K) and the model would reach less than
+# 1.2x rated voltage before the end of the resistivity table.
+RATED_TEMPERATURE_RANGE = (1500.0, 3400.0)
+CONDUCTION_FRACTION_RANGE = (0.0, 0.9)
+
+# Filament temperature at rated voltage by fill, as (rated power [W], temperature [K]) pairs,
+# interpolated in log power and held at the end values outside the pairs (no extrapolation).
+# Gas: midpoints of 2700-2750 K at 40 W, 2750-2800 K at 60 W, 2850-2870 K at 100 W
+# (DESIGN.md section 7, from memory): larger filaments run hotter for the same life.
+# Vacuum: general-service vacuum lamps (up to about 40 W) run near 2400-2600 K (from memory).
+# Halogen: mains halogen lamps run at about 2900-3100 K (DESIGN.md section 7, from memory).
+# 230 V lamps have thinner filaments and run somewhat cooler than 120 V lamps of the same power;
+# where that matters give rated_temperature, cold_resistance, or fit measured points.
+DEFAULT_RATED_TEMPERATURE = {
+    "gas": ((40.0, 2725.0), (60.0, 2775.0), (100.0, 2860.0)),
+    "vacuum": ((25.0, 2500.0),),
+    "halogen": ((100.0, 3000.0),),
+}
+
+# Share of the rated power lost by conduction at rated temperature, by fill (from memory, each
+# uncertain by about a factor of 1.5; fit measured points where it matters). Gas: the fill
+# gas carries 15-25 % of the input of 40-100 W coiled-coil lamps, more for thinner filaments
+# (Langmuir 1912-1913 found gas loss the price of a gas fill, and coiling the filament to cut
+# it; Elenbaas, "Light Sources", 1972). Vacuum: only the lead and support wires conduct, a few
+# per cent. Halogen: a dense krypton or xenon fill, whose conductivity is a third to a half of
+# argon's, in a small capsule: about 10-15 %.
+DEFAULT_CONDUCTION_FRACTION = {"gas": 0.20, "vacuum": 0.05, "halogen": 0.12}
+
+# Exponent n of the conduction loss G (T**n - T_amb**n), by fill. Gas (and halogen): Langmuir's
+# stagnant-film model gives the loss as a fixed shape factor times the heat-conduction
+# potential phi(T) = integral of k dT; the fill gases' conductivity k grows about as T**0.75
+# (argon 0.018 W/(m K) at 300 K and about 0.043 at 1000 K; nitrogen 0.026 and 0.066; from
+# memory), so phi(T) - phi(T_amb) goes as T**1.75 - T_amb**1.75. Vacuum: conduction along the
+# metal leads, whose conductivity changes little with temperature: linear in T - T_amb.
+CONDUCTION_EXPONENT = {"gas": 1.75, "vacuum": 1.0, "halogen": 1.75}
+
+# Temperature grid of the lamp curve: dense, quadratic in a uniform parameter so that the
+# voltage steps are nearly even near zero volts (V grows as sqrt(T - T_amb) there).
+CURVE_POINTS = 2001
+NEWTON_STEPS = 3
+
+# Lamp.fit searches the conduction fraction within FIT_CONDUCTION_FRACTION_RANGE (half the
+# rated power by conduction is already beyond any lamp we know of) and accepts points up to
+# FIT_MAX_VOLTAGE_RATIO times rated voltage, which every lamp in the search reaches before the
+# end of the resistivity table.
+FIT_CONDUCTION_FRACTION_RANGE = (0.0, 0.5)
+FIT_MAX_VOLTAGE_RATIO = 1.1
+
+
+class LampCurve(NamedTuple):
+    """A lamp's steady-state curve: three strictly increasing 1-D arrays from zero volts."""
+
+    voltage: np.ndarray  # [V]
+    current: np.ndarray  # [A]
+    temperature: np.ndarray  # [K]
+
+
+def _check_scalar(value, name, unit, low=None, high=None, positive=False):
+    number = float(value)
+    if np.isnan(number) or np.isinf(number):
+        raise ValueError(f"{name} must be a finite number (got {value!r})")
+    if positive and number <= 0.0:
+        raise ValueError(f"{name} must be positive (got {number:g} {unit})")
+    if low is not None and not low <= number <= high:
+        raise ValueError(f"{name} must lie between {low:g} {unit} and {high:g} {unit} "
+                         f"(got {number:g} {unit})")
+    return number
+
+
+def _check_fill(fill):
+    if fill not in FILLS:
+        allowed = ", ".join(repr(name) for name in FILLS)
+        raise ValueError(f"fill must be one of {allowed} (got {fill!r})")
+    return fill
+
+
+def _check_voltage(voltage, maximum):
+    values = np.asarray(voltage, dtype=float)
+    if np.any(np.isnan(values)):
+        raise ValueError("voltage must be a number (got NaN)")
+    if np.any(values < 0.0):
+        raise ValueError(f"voltage must not be negative (got {values.min():g} V)")
+    if np.any(values > maximum):
+        raise ValueError(
+            f"voltage must not exceed {maximum:.4g} V, where the filament reaches "
+            f"{TABLE_MAX_TEMPERATURE:g} K, the end of the resistivity table "
+            f"(got {values.max():g} V)"
+        )
+    return values
+
+
+def default_rated_temperature(rated_power, fill="gas"):
+    """
+    Default filament temperature at rated voltage for a lamp of this power and fill.
+
+    Parameters
+    ----------
+    rated_power : float
+        rated power of the lamp [W]
+    fill : str
+        one of ``FILLS``
+
+    Returns
+    -------
+    rated_temperature : float
+        filament temperature at rated voltage [K], from ``DEFAULT_RATED_TEMPERATURE``.
+    """
+    power = _check_scalar(rated_power, "rated_power", "W", positive=True)
+    pairs = np.asarray(DEFAULT_RATED_TEMPERATURE[_check_fill(fill)])
+    return float(np.interp(np.log(power), np.log(pairs[:, 0]), pairs[:, 1]))
+
+
+def _rated_temperature_from_cold_resistance(cold_resistance, hot_resistance, ambient):
+    """Solve rho(T_r) / rho(T_amb) = R_h / R_cold on the resistivity table."""
+    target = tungsten_resistivity(ambient) * hot_resistance / cold_resistance
+    grid = np.linspace(TABLE_MIN_TEMPERATURE, TABLE_MAX_TEMPERATURE, 3301)
+    resistivity = tungsten_resistivity(grid)
+    low, high = RATED_TEMPERATURE_RANGE
+    if not tungsten_resistivity(low) <= target <= tungsten_resistivity(high):
+        implied = ("above " if target > resistivity[-1] else "below ") if not (
+            resistivity[0] <= target <= resistivity[-1]) else ""
+        estimate = np.interp(target, resistivity, grid)
+        raise ValueError(
+            f"cold_resistance {cold_resistance:g} ohm implies a rated filament temperature "
+            f"{implied}{estimate:.0f} K (hot/cold ratio {hot_resistance / cold_resistance:.3g}), "
+            f"outside {low:g}-{high:g} K: check the measurement, or that the lamp is tungsten"
+        )
+    temperature = float(np.interp(target, resistivity, grid))
+    for _ in range(NEWTON_STEPS):
+        temperature -= float(
+            (tungsten_resistivity(temperature) - target)
+            / tungsten_resistivity_derivative(temperature)
+        )
+    return temperature
+
+
+class Lamp:
+    """
+    A tungsten filament lamp in steady state, from its rating.
+
+    Parameters
+    ----------
+    rated_voltage : float
+        rated voltage, 6 to 300 [V]
+    rated_power : float
+        rated power at rated voltage [W]
+    fill : str, default "gas"
+        "gas" (argon-nitrogen), "vacuum" or "halogen"
+    rated_temperature : float, optional
+        filament temperature at rated voltage [K]; default from ``DEFAULT_RATED_TEMPERATURE``
+        or, if ``cold_resistance`` is given, solved from it. Give one or the other.
+    cold_resistance : float, optional
+        measured filament resistance at ambient temperature [ohm]
+    ambient_temperature : float, default 300.0
+        temperature of the bench and the cold filament, 300 to 350 [K]
+    conduction_fraction : float, optional
+        share of rated power lost by conduction at rated temperature [-]; default from
+        ``DEFAULT_CONDUCTION_FRACTION``
+
+    Notes
+    -----
+    The filament resistance scales with tungsten's resistivity,
+
+    .. math:: R(T) = R_h \\rho(T) / \\rho(T_r), \\quad R_h = V_r^2 / P_r,
+
+    and in steady state the electrical input equals the heat loss,
+
+    .. math:: V^2 / R(T) = P_{loss}(T) = A \\sigma \\varepsilon(T) (T^4 - T_a^4)
+              + G (T^n - T_a^n),
+
+    radiation with tungsten's total hemispherical emissivity plus conduction to the fill gas
+    and the leads (exponent n from ``CONDUCTION_EXPONENT``). A and G follow from
+    :math:`P_{loss}(T_r) = P_r` and the conduction fraction f:
+    :math:`G (T_r^n - T_a^n) = f P_r`. Both sides of the balance rise with T, so every
+    voltage has one filament temperature. The solution interpolates a dense precomputed
+    curve in V^2 and polishes it with Newton steps on :math:`P_{loss}(T) R(T) = V^2`.
+
+    References
+    ----------
+    .. [1] I. Langmuir, "Convection and conduction of heat in gases", Phys. Rev. 34, 401
+       (1912).
+    .. [2] W. E. Forsythe and A. G. Worthing, "The properties of tungsten and the
+       characteristics of tungsten lamps", Astrophys. J. 61, 146 (1925).
+    """
+
+    def __init__(self, rated_voltage, rated_power, fill="gas", rated_temperature=None,
+                 cold_resistance=None, ambient_temperature=300.0, conduction_fraction=None):
+        self._rated_voltage = _check_scalar(
+            rated_voltage, "rated_voltage", "V", *RATED_VOLTAGE_RANGE)
+        self._rated_power = _check_scalar(rated_power, "rated_power", "W", positive=True)
+        self._fill = _check_fill(fill)
+        self._ambient_temperature = _check_scalar(
+            ambient_temperature, "ambient_temperature", "K", *AMBIENT_TEMPERATURE_RANGE)
+        if rated_temperature is not None and cold_resistance is not None:
+            raise ValueError("give rated_temperature or cold_resistance, not both: the cold "
+                             "resistance fixes the rated temperature")
+        if cold_resistance is not None:
+            cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
+            rated_temperature = _rated_temperature_from_cold_resistance(
+                cold, self.hot_resistance, self._ambient_temperature)
+        elif rated_temperature is None:
+            rated_temperature = default_rated_temperature(self._rated_power, fill)
+        self._rated_temperature = _check_scalar(
+            rated_temperature, "rated_temperature", "K", *RATED_TEMPERATURE_RANGE)
+        if conduction_fraction is None:
+            conduction_fraction = DEFAULT_CONDUCTION_FRACTION[fill]
+        self._conduction_fraction = _check_scalar(
+            conduction_fraction, "conduction_fraction", "", *CONDUCTION_FRACTION_RANGE)
+        self._conduction_exponent = CONDUCTION_EXPONENT[fill]
+
+        ambient, rated = self._ambient_temperature, self._rated_temperature
+        self._rated_resistivity = float(tungsten_resistivity(rated))
+        # A * sigma and G of the Notes, fixed by P_loss(T_r) = P_r and the conduction fraction.
+        self._radiation_coefficient = (
+            (1.0 - self._conduction_fraction) * self._rated_power
+            / (tungsten_emissivity(rated) * (rated**4 - ambient**4))
+        )
+        self._conduction_coefficient = (
+            self._conduction_fraction * self._rated_power
+            / (rated**self._conduction_exponent - ambient**self._conduction_exponent)
+        )
+        self._build_curve()
+
+    @property
+    def rated_voltage(self):
+        """Rated voltage [V]."""
+        return self._rated_voltage
+
+    @property
+    def rated_power(self):
+        """Rated power at rated voltage [W]."""
+        return self._rated_power
+
+    @property
+    def fill(self):
+        """Fill of the bulb: one of ``FILLS``."""
+        return self._fill
+
+    @property
+    def rated_temperature(self):
+        """Filament temperature at rated voltage [K]."""
+        return self._rated_temperature
+
+    @property
+    def ambient_temperature(self):
+        """Temperature of the bench and the cold filament [K]."""
+        return self._ambient_temperature
+
+    @property
+    def conduction_fraction(self):
+        """Share of rated power lost by conduction at rated temperature [-]."""
+        return self._conduction_fraction
+
+    @property
+    def radiation_area(self):
+        """Effective radiating area A of the filament implied by the rating [m^2]."""
+        return self._radiation_coefficient / constants.Stefan_Boltzmann
+
+    @property
+    def hot_resistance(self):
+        """Filament resistance at rated voltage, V_r**2 / P_r [ohm]."""
+        return self._rated_voltage**2 / self._rated_power
+
+    @property
+    def cold_resistance(self):
+        """Filament resistance at ambient temperature [ohm]."""
+        return float(self.resistance_at_temperature(self._ambient_temperature))
+
+    @property
+    def max_voltage(self):
+        """Lamp voltage at which the filament reaches the end of the resistivity table [V]."""
+        return float(self._curve.voltage[-1])
+
+    def __repr__(self):
+        return (f"Lamp(rated_voltage={self._rated_voltage:g}, rated_power={self._rated_power:g}, "
+                f"fill={self._fill!r}, rated_temperature={self._rated_temperature:.1f}, "
+                f"ambient_temperature={self._ambient_temperature:g}, "
+                f"conduction_fraction={self._conduction_fraction:g})")
+
+    def resistance_at_temperature(self, temperature):
+        """
+        Filament resistance at a filament temperature.
+
+        Parameters
+        ----------
+        temperature : numeric
+            filament temperature, 300 to 3600 [K]
+
+        Returns
+        -------
+        resistance : numpy.ndarray
+            shaped like ``temperature`` [ohm]
+
+        Notes
+        -----
+        .. math:: R(T) = R_h \\rho(T) / \\rho(T_r)
+        """
+        return self.hot_resistance * tungsten_resistivity(temperature) / self._rated_resistivity
+
+    def power_loss(self, temperature):
+        """
+        Heat lost by the filament at a filament temperature.
+
+        Parameters
+        ----------
+        temperature : numeric
+            filament temperature, 300 to 3600 [K]
+
+        Returns
+        -------
+        power : numpy.ndarray
+            radiation plus conduction, shaped like ``temperature`` [W]
+
+        Notes
+        -----
+        .. math:: P_{loss}(T) = A \\sigma \\varepsilon(T) (T^4 - T_a^4) + G (T^n - T_a^n)
+
+        References
+        ----------
+        .. [1] J. Stefan (1879) and L. Boltzmann (1884); sigma from CODATA via
+           ``scipy.constants.Stefan_Boltzmann``.
+        """
+        values = np.asarray(temperature, dtype=float)
+        ambient, exponent = self._ambient_temperature, self._conduction_exponent
+        return (
+            self._radiation_coefficient * tungsten_emissivity(values) * (values**4 - ambient**4)
+            + self._conduction_coefficient * (values**exponent - ambient**exponent)
+        )
+
+    def _power_loss_derivative(self, temperature):
+        ambient, exponent = self._ambient_temperature, self._conduction_exponent
+        return (
+            self._radiation_coefficient * (
+                tungsten_emissivity_derivative(temperature) * (temperature**4 - ambient**4)
+                + 4.0 * tungsten_emissivity(temperature) * temperature**3
+            )
+            + self._conduction_coefficient * exponent * temperature ** (exponent - 1.0)
+        )
+
+    def _build_curve(self):
+        ambient = self._ambient_temperature
+        parameter = np.linspace(0.0, 1.0, CURVE_POINTS)
+        temperature = ambient + (TABLE_MAX_TEMPERATURE - ambient) * parameter**2
+        resistance = self.resistance_at_temperature(temperature)
+        squared_voltage = self.power_loss(temperature) * resistance
+        voltage = np.sqrt(squared_voltage)
+        current = voltage / resistance
+        for name, values in (("voltage", voltage), ("current", current)):
+            if not np.all(np.diff(values) > 0.0):
+                raise ValueError(f"the lamp's {name} does not rise with filament temperature "
+                                 f"for these parameters: {self!r}")
+        for values in (voltage, current, temperature):
+            values.setflags(write=False)
+        self._curve = LampCurve(voltage, current, temperature)
+        self._temperature_of_squared_voltage = PchipInterpolator(squared_voltage, temperature)
+
+    def curve(self):
+        """
+        The lamp's steady-state curve on a dense filament-temperature grid.
+
+        Returns
+        -------
+        curve : LampCurve
+            ``voltage`` [V], ``current`` [A] and ``temperature`` [K], strictly increasing
+            from (0 V, 0 A, ambient) to the end of the resistivity table; read-only arrays,
+            built once per lamp.
+        """
+        return self._curve
+
+    def filament_temperature(self, voltage):
+        """
+        Steady-state filament temperature at a lamp voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp, 0 to ``max_voltage`` [V]
+
+        Returns
+        -------
+        temperature : numpy.ndarray
+            shaped like ``voltage``; ambient at zero volts [K]
+        """
+        values = _check_voltage(voltage, self.max_voltage)
+        target = values**2
+        temperature = self._temperature_of_squared_voltage(target)
+        ambient = self._ambient_temperature
+        for _ in range(NEWTON_STEPS):
+            resistance = self.resistance_at_temperature(temperature)
+            loss = self.power_loss(temperature)
+            slope = (self._power_loss_derivative(temperature) * resistance
+                     + loss * self.hot_resistance
+                     * tungsten_resistivity_derivative(temperature) / self._rated_resistivity)
+            temperature = np.clip(temperature - (loss * resistance - target) / slope,
+                                  ambient, TABLE_MAX_TEMPERATURE)
+        return temperature
+
+    def resistance(self, voltage):
+        """
+        Steady-state filament resistance at a lamp voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp [V]
+
+        Returns
+        -------
+        resistance : numpy.ndarray
+            shaped like ``voltage``; the cold resistance at zero volts [ohm]
+        """
+        return self.resistance_at_temperature(self.filament_temperature(voltage))
+
+    def current(self, voltage):
+        """
+        Steady-state RMS current through the lamp at a lamp voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp [V]
+
+        Returns
+        -------
+        current : numpy.ndarray
+            shaped like ``voltage``; zero at zero volts [A]
+        """
+        values = np.asarray(voltage, dtype=float)
+        return values / self.resistance(values)
+
+    def power(self, voltage):
+        """
+        Steady-state power drawn by the lamp at a lamp voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp [V]
+
+        Returns
+        -------
+        power : numpy.ndarray
+            shaped like ``voltage`` [W]
+        """
+        values = np.asarray(voltage, dtype=float)
+        return values**2 / self.resistance(values)
+
+    def relative_light(self, voltage):
+        """
+        Luminous output relative to the same lamp at rated voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp [V]
+
+        Returns
+        -------
+        light : numpy.ndarray
+            shaped like ``voltage``; 1 at rated voltage [-]
+
+        Notes
+        -----
+        The filament's area does not change, so the light output scales with its luminance
+        (:func:`shop.physics.glow.luminance`).
+        """
+        return (luminance(self.filament_temperature(voltage))
+                / luminance(self._rated_temperature))
+
+    def glow(self, voltage):
+        """
+        Glow class of the filament at a lamp voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the lamp [V]
+
+        Returns
+        -------
+        glow : numpy.ndarray of str
+            one of ``GLOW_CLASSES`` per element, shaped like ``voltage``
+        """
+        return glow_class(self.filament_temperature(voltage), self._rated_temperature)
+
+    @classmethod
+    def fit(cls, rated_voltage, rated_power, points=None, cold_resistance=None, fill="gas",
+            ambient_temperature=300.0):
+        """
+        Calibrate a lamp's rated temperature and conduction fraction to measurements.
+
+        Parameters
+        ----------
+        rated_voltage : float
+            rated voltage [V]
+        rated_power : float
+            rated power [W]
+        points : array-like of shape (n, 2), optional
+            measured steady-state (voltage [V], current [A]) pairs, voltages up to
+            ``FIT_MAX_VOLTAGE_RATIO`` times rated voltage
+        cold_resistance : float, optional
+            measured filament resistance at ambient temperature [ohm]
+        fill : str, default "gas"
+            one of ``FILLS``
+        ambient_temperature : float, default 300.0
+            temperature of the bench [K]
+
+        Returns
+        -------
+        fit : LampFit
+
+        Notes
+        -----
+        Least squares (``scipy.optimize.least_squares``, trust region within
+        ``RATED_TEMPERATURE_RANGE`` and ``FIT_CONDUCTION_FRACTION_RANGE``) of the current
+        residuals at the points; a cold resistance adds one residual, its relative error times
+        the rated current, so a 1 % miss in cold resistance weighs as a 1 % miss in current at
+        rating. A cold resistance alone fixes the rated temperature exactly and leaves the
+        conduction fraction at its default.
+        """
+        if points is None and cold_resistance is None:
+            raise ValueError("give points, cold_resistance or both to fit a lamp")
+        reference = cls(rated_voltage, rated_power, fill=fill,
+                        ambient_temperature=ambient_temperature)
+        if cold_resistance is not None:
+            cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
+            start = cls(rated_voltage, rated_power, fill=fill, cold_resistance=cold,
+                        ambient_temperature=ambient_temperature)
+        else:
+            cold, start = None, reference
+        volts, amps = _check_points(points, reference.rated_voltage, cold is not None)
+        if volts.size == 0:
+            return LampFit(start, np.zeros(0), 0.0, 0.0)
+
+        rated_current = reference.rated_power / reference.rated_voltage
+
+        def lamp_for(parameters):
+            return cls(rated_voltage, rated_power, fill=fill,
+                       rated_temperature=parameters[0], conduction_fraction=parameters[1],
+                       ambient_temperature=ambient_temperature)
+
+        def residuals(parameters):
+            lamp = lamp_for(parameters)
+            misses = lamp.current(volts) - amps
+            if cold is None:
+                return misses
+            return np.append(misses, (lamp.cold_resistance / cold - 1.0) * rated_current)
+
+        result = least_squares(
+            residuals,
+            x0=[start.rated_temperature, start.conduction_fraction],
+            bounds=([RATED_TEMPERATURE_RANGE[0], FIT_CONDUCTION_FRACTION_RANGE[0]],
+                    [RATED_TEMPERATURE_RANGE[1], FIT_CONDUCTION_FRACTION_RANGE[1]]),
+            x_scale=[100.0, 0.05],
+            xtol=1e-12,
+        )
+        lamp = lamp_for(result.x)
+        misses = lamp.current(volts) - amps
+        cold_miss = None if cold is None else lamp.cold_resistance - cold
+        return LampFit(lamp, misses, float(np.sqrt(np.mean(misses**2))), cold_miss)
+
+
+def _check_points(points, rated_voltage, have_cold_resistance):
+    if points is None:
+        return np.zeros(0), np.zeros(0)
+    values = np.asarray(points, dtype=float)
+    if values.size == 0:
+        raise ValueError("points must not be empty: give (volts, amps) pairs or leave it out")
+    if values.ndim != 2 or values.shape[1] != 2:
+        raise ValueError(f"points must be (volts, amps) pairs, shape (n, 2) "
+                         f"(got shape {values.shape})")
+    if np.any(np.isnan(values)) or np.any(np.isinf(values)):
+        raise ValueError("points must be finite numbers (got NaN or infinity)")
+    if np.any(values < 0.0):
+        raise ValueError(f"points must not be negative (got {values.min():g})")
+    if np.any(values[:, 0] > FIT_MAX_VOLTAGE_RATIO * rated_voltage):
+        raise ValueError(
+            f"points must not exceed {FIT_MAX_VOLTAGE_RATIO:g}x rated voltage "
+            f"({FIT_MAX_VOLTAGE_RATIO * rated_voltage:g} V; got {values[:, 0].max():g} V)")
+    if values.shape[0] + have_cold_resistance < 2:
+        raise ValueError("points must hold at least 2 (volts, amps) pairs to fit rated "
+                         "temperature and conduction fraction, or add cold_resistance")
+    return values[:, 0], values[:, 1]
+
+
+class LampFit(NamedTuple):
+    """A lamp calibrated to measurements, with how far it misses them."""
+
+    lamp: Lamp
+    residuals: np.ndarray  # [A] model minus measured current at each point, in point order
+    rms_residual: float  # [A] root mean square of residuals; 0.0 when no points were given
+    cold_resistance_residual: float | None  # [ohm] model minus measured; None if not given
+
+    @property
+    def rated_temperature(self):
+        """Fitted filament temperature at rated voltage [K]."""
+        return self.lamp.rated_temperature
+
+    @property
+    def conduction_fraction(self):
+        """Fitted share of rated power lost by conduction at rated temperature [-]."""
+        return self.lamp.conduction_fraction
+
+
+class LampBank:
+    """
+    Lamps switched in parallel, behaving as one lamp.
+
+    Parameters
+    ----------
+    lamps : sequence of Lamp or LampBank
+        the lamps in the bank; nested banks are flattened
+
+    Notes
+    -----
+    Every lamp sees the same voltage: the bank's current is the sum of the lamps' currents,
+    its filament temperature the hottest filament's and its glow the brightest lamp's class.
+    Rated voltages may differ; the bank's ``rated_voltage`` is the highest.
+    """
+
+    def __init__(self, lamps):
+        flat = []
+        for lamp in lamps:
+            if isinstance(lamp, LampBank):
+                flat.extend(lamp.lamps)
+            elif isinstance(lamp, Lamp):
+                flat.append(lamp)
+            else:
+                raise ValueError(f"lamps must be Lamp or LampBank objects (got {lamp!r})")
+        if not flat:
+            raise ValueError("lamps must hold at least one lamp")
+        self._lamps = tuple(flat)
+        self._curve = None
+
+    @property
+    def lamps(self):
+        """The lamps of the bank [tuple of Lamp]."""
+        return self._lamps
+
+    @property
+    def rated_voltage(self):
+        """Highest rated voltage of the lamps [V]."""
+        return max(lamp.rated_voltage for lamp in self._lamps)
+
+    @property
+    def rated_power(self):
+        """Sum of the lamps' rated powers [W]."""
+        return sum(lamp.rated_power for lamp in self._lamps)
+
+    @property
+    def hot_resistance(self):
+        """Parallel combination of the lamps' resistances at their rated voltages [ohm]."""
+        return 1.0 / sum(1.0 / lamp.hot_resistance for lamp in self._lamps)
+
+    @property
+    def cold_resistance(self):
+        """Parallel combination of the lamps' cold resistances [ohm]."""
+        return 1.0 / sum(1.0 / lamp.cold_resistance for lamp in self._lamps)
+
+    @property
+    def max_voltage(self):
+        """Voltage at which the first filament reaches the end of the resistivity table [V]."""
+        return min(lamp.max_voltage for lamp in self._lamps)
+
+    def __repr__(self):
+        return f"LampBank([{', '.join(repr(lamp) for lamp in self._lamps)}])"
+
+    def _check(self, voltage):
+        return _check_voltage(voltage, self.max_voltage)
+
+    def current(self, voltage):
+        """
+        Sum of the lamps' steady-state currents at a common voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        current : numpy.ndarray
+            shaped like ``voltage`` [A]
+        """
+        values = self._check(voltage)
+        return sum(lamp.current(values) for lamp in self._lamps)
+
+    def resistance(self, voltage):
+        """
+        Resistance of the bank, the lamps' resistances in parallel.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        resistance : numpy.ndarray
+            shaped like ``voltage``; the parallel cold resistance at zero volts [ohm]
+        """
+        values = self._check(voltage)
+        return 1.0 / sum(1.0 / lamp.resistance(values) for lamp in self._lamps)
+
+    def filament_temperature(self, voltage):
+        """
+        Temperature of the hottest filament in the bank.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        temperature : numpy.ndarray
+            shaped like ``voltage`` [K]
+        """
+        values = self._check(voltage)
+        return np.max([lamp.filament_temperature(values) for lamp in self._lamps], axis=0)
+
+    def power(self, voltage):
+        """
+        Steady-state power drawn by the bank.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        power : numpy.ndarray
+            shaped like ``voltage`` [W]
+        """
+        values = self._check(voltage)
+        return values * self.current(values)
+
+    def relative_light(self, voltage):
+        """
+        Luminous output of the bank relative to every lamp at its own rated voltage.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        light : numpy.ndarray
+            shaped like ``voltage`` [-]
+
+        Notes
+        -----
+        Each lamp's relative light weighted by its rated power, taking lamps of one kind to
+        give light in proportion to their rated power at rating.
+        """
+        values = self._check(voltage)
+        return sum(lamp.rated_power * lamp.relative_light(values)
+                   for lamp in self._lamps) / self.rated_power
+
+    def glow(self, voltage):
+        """
+        Glow class of the brightest lamp in the bank.
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the bank [V]
+
+        Returns
+        -------
+        glow : numpy.ndarray of str
+            one of ``GLOW_CLASSES`` per element, shaped like ``voltage``
+        """
+        values = self._check(voltage)
+        classes = np.asarray(GLOW_CLASSES)
+        rank = np.max([np.argmax(lamp.glow(values)[..., np.newaxis] == classes, axis=-1)
+                       for lamp in self._lamps], axis=0)
+        return classes[rank]
+
+    def curve(self):
+        """
+        The bank's steady-state curve on the union of its lamps' voltage grids.
+
+        Returns
+        -------
+        curve : LampCurve
+            ``voltage`` [V], ``current`` [A] (sum) and ``temperature`` [K] (hottest),
+            strictly increasing from zero volts to ``max_voltage``; read-only arrays, built
+            once per bank.
+        """
+        if self._curve is None:
+            maximum = self.max_voltage
+            grids = [lamp.curve().voltage for lamp in self._lamps]
+            # Points closer than a part in 1e9 of the range are dropped: their currents could
+            # tie in floating point.
+            spacing = 1e-9 * maximum
+            voltage = np.unique(np.concatenate(grids))
+            voltage = np.append(voltage[voltage < maximum - spacing], maximum)
+            voltage = voltage[np.concatenate([[True], np.diff(voltage) > spacing])]
+            current = self.current(voltage)
+            temperature = self.filament_temperature(voltage)
+            for values in (voltage, current, temperature):
+                values.setflags(write=False)
+            self._curve = LampCurve(voltage, current, temperature)
+        return self._curve
