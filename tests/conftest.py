@@ -30,7 +30,7 @@ def _postgres_gate(request):
 def make_staff(role: str | None, username: str | None = None) -> User:
     user = User.objects.create_user(username=username or f"user_{role}", password="not-a-real-pw-1")
     if role:
-        user.groups.add(Group.objects.get(name=role))
+        user.groups.add(Group.objects.get_or_create(name=role)[0])
     return user
 
 

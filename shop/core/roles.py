@@ -58,5 +58,7 @@ class HasShopRole(BasePermission):
     def has_permission(self, request, view) -> bool:
         if not request.user or not request.user.is_authenticated:
             return False
+        if not hasattr(view, request.method.lower()):
+            return True  # let the view answer 405: the method does not exist for anyone
         allowed = getattr(view, "role_rules", {}).get(operation_of(request, view), frozenset())
         return bool(user_roles(request.user) & set(allowed))

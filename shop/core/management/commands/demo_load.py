@@ -1,0 +1,86 @@
+"""Load the invented demo shop: staff in every role, customers, units and jobs in every state."""
+
+from __future__ import annotations
+
+import json
+from datetime import timedelta
+from pathlib import Path
+
+from django.conf import settings
+from django.contrib.auth.models import Group, User
+from django.core.management.base import BaseCommand
+from django.db import transaction
+from django.utils import timezone
+
+from shop.intake import services
+from shop.intake.models import Customer
+
+DEMO_DIR = Path(settings.BASE_DIR) / "fixtures" / "demo"
+# Local demo only: every demo account shares this password, printed at load time.
+DEMO_PASSWORD = "bench-demo-2026"
+
+
+class Command(BaseCommand):
+    help = "Load the invented demo shop from fixtures/demo/ (skipped when records already exist)."
+
+    def handle(self, *args, **options):
+        data = json.loads((DEMO_DIR / "intake.json").read_text())
+        staff = self.load_staff(data["staff"])
+        if Customer.objects.exists():
+            self.stdout.write("Demo records already present; staff accounts refreshed only.")
+        else:
+            self.load_records(data, staff)
+            self.stdout.write(
+                f"Loaded {len(data['customers'])} customers, {len(data['units'])} units, "
+                f"{len(data['jobs'])} jobs."
+            )
+        self.stdout.write("Demo staff (local use only):")
+        for person in data["staff"]:
+            self.stdout.write(
+                f"  {person['username']:<6} {person['role']:<11} password: {DEMO_PASSWORD}"
+            )
+
+    def load_staff(self, people: list[dict]) -> dict[str, User]:
+        staff = {}
+        for person in people:
+            user, _ = User.objects.get_or_create(username=person["username"])
+            user.first_name, user.last_name = person["first_name"], person["last_name"]
+            user.is_staff = person["role"] == "lead"
+            user.set_password(DEMO_PASSWORD)
+            user.save()
+            user.groups.set([Group.objects.get_or_create(name=person["role"])[0]])
+            staff[person["username"]] = user
+        return staff
+
+    @transaction.atomic
+    def load_records(self, data: dict, staff: dict[str, User]) -> None:
+        lead = next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
+        customers = {}
+        for entry in data["customers"]:
+            fields = {k: v for k, v in entry.items() if k != "key"}
+            customers[entry["key"]] = services.customer_create(**fields)
+        units = {}
+        for entry in data["units"]:
+            fields = {k: v for k, v in entry.items() if k not in {"key", "owner"}}
+            units[entry["key"]] = services.unit_create(owner=customers[entry["owner"]], **fields)
+        today = timezone.localdate()
+        for entry in data["jobs"]:
+            job = services.job_create(
+                unit=units[entry["unit"]],
+                complaint=entry["complaint"],
+                received_on=today - timedelta(days=entry["days_ago"]),
+                assigned_technician=staff.get(entry.get("technician")),
+                estimate=entry.get("estimate"),
+            )
+            for step in entry["steps"]:
+                services.repair_step_add(
+                    job=job,
+                    technician=staff[step["by"]],
+                    action=step["action"],
+                    minutes=step["minutes"],
+                    parts=step.get("parts", []),
+                )
+            for target in entry["route"]:
+                job = services.job_transition(
+                    job=job, to_state=target, actor=lead, approved_by="Customer, by phone"
+                )

@@ -1,0 +1,30 @@
+"""The demo shop loads through the services: staff in every role and jobs in every state."""
+
+from __future__ import annotations
+
+from io import StringIO
+
+from django.contrib.auth.models import User
+from django.core.management import call_command
+
+from shop.core.roles import ROLES
+from shop.intake.models import Customer, Job, JobState, RepairStep, Unit
+
+
+def test_demo_shop_loads_every_state_and_role(db):
+    out = StringIO()
+    call_command("demo_load", stdout=out)
+    assert (Customer.objects.count(), Unit.objects.count(), Job.objects.count()) == (8, 12, 12)
+    assert set(Job.objects.values_list("state", flat=True)) == set(JobState.values)
+    assert RepairStep.objects.count() >= 12
+    for role in ROLES:
+        assert User.objects.filter(groups__name=role).exists()
+    assert User.objects.filter(groups__name="technician").count() == 3
+    assert "password" in out.getvalue()
+    assert Unit.objects.filter(construction="transformerless").exists()
+
+
+def test_loading_twice_adds_nothing(db):
+    call_command("demo_load", stdout=StringIO())
+    call_command("demo_load", stdout=StringIO())
+    assert Job.objects.count() == 12
