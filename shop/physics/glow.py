@@ -35,12 +35,12 @@ GLOW_CLASSES = ("dark", "faint", "dull", "medium", "bright")
 # a filament at 2700-2900 K has a luminance of 6e6-1e7 cd/m^2, so for a lamp rated at 2775 K
 # the limits fall at the absolute luminances and temperatures below. The limits are common
 # practice, no source; the comparison luminances are recalled from lighting texts (from memory):
-# - FAINT_LIMIT 1e-4, about 700 cd/m^2 (about 1370 K), dull red: a few times white paper
+# - FAINT_LIMIT 1e-4, about 700 cd/m^2 (about 1360 K), dull red: a few times white paper
 #   under workshop lighting (100-200 cd/m^2); a filament a fraction of a millimetre thick at
 #   that luminance is easy to miss in a lit room and plain in a dim one.
-# - DULL_LIMIT 1e-2, about 7e4 cd/m^2 (about 1850 K), orange: a few times the surface of a
+# - DULL_LIMIT 1e-2, about 7e4 cd/m^2 (about 1840 K), orange: a few times the surface of a
 #   fluorescent tube (1e4-2e4 cd/m^2); plainly lit in a lit room, still easy to look at.
-# - MEDIUM_LIMIT 0.2, about 1.4e6 cd/m^2 (about 2380 K), yellow-white and glaring to look at
+# - MEDIUM_LIMIT 0.2, about 1.4e6 cd/m^2 (about 2360 K), yellow-white and glaring to look at
 #   directly; above it the lamp looks close to its full brightness.
 FAINT_LIMIT = 1e-4
 DULL_LIMIT = 1e-2
@@ -181,7 +181,8 @@ def glow_class(temperature, rated_temperature):
         [0, 1, 2, 3],
         default=4,
     )
-    return np.asarray(GLOW_CLASSES)[index]
+    # Indexing with a 0-d index gives a numpy scalar; keep it an array, as for other shapes.
+    return np.asarray(np.asarray(GLOW_CLASSES)[index])
 
 
 def glow_colour(temperature):

@@ -82,14 +82,18 @@ class LampCurve(NamedTuple):
 
 
 def _check_scalar(value, name, unit, low=None, high=None, positive=False):
-    number = float(value)
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a number (got {value!r})") from None
+    unit = f" {unit}" if unit else ""
     if np.isnan(number) or np.isinf(number):
         raise ValueError(f"{name} must be a finite number (got {value!r})")
     if positive and number <= 0.0:
-        raise ValueError(f"{name} must be positive (got {number:g} {unit})")
+        raise ValueError(f"{name} must be positive (got {number:g}{unit})")
     if low is not None and not low <= number <= high:
-        raise ValueError(f"{name} must lie between {low:g} {unit} and {high:g} {unit} "
-                         f"(got {number:g} {unit})")
+        raise ValueError(f"{name} must lie between {low:g}{unit} and {high:g}{unit} "
+                         f"(got {number:g}{unit})")
     return number
 
 
@@ -803,7 +807,7 @@ class LampBank:
         classes = np.asarray(GLOW_CLASSES)
         rank = np.max([np.argmax(lamp.glow(values)[..., np.newaxis] == classes, axis=-1)
                        for lamp in self._lamps], axis=0)
-        return classes[rank]
+        return np.asarray(classes[rank])
 
     def curve(self):
         """
