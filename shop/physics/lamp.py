@@ -147,13 +147,16 @@ def _rated_temperature_from_cold_resistance(cold_resistance, hot_resistance, amb
     resistivity = tungsten_resistivity(grid)
     low, high = RATED_TEMPERATURE_RANGE
     if not tungsten_resistivity(low) <= target <= tungsten_resistivity(high):
-        implied = ("above " if target > resistivity[-1] else "below ") if not (
-            resistivity[0] <= target <= resistivity[-1]) else ""
-        estimate = np.interp(target, resistivity, grid)
+        if target > resistivity[-1]:
+            implied = f"above {TABLE_MAX_TEMPERATURE:g} K"
+        elif target < resistivity[0]:
+            implied = f"below {TABLE_MIN_TEMPERATURE:g} K"
+        else:
+            implied = f"of {np.interp(target, resistivity, grid):.0f} K"
         raise ValueError(
             f"cold_resistance {cold_resistance:g} ohm implies a rated filament temperature "
-            f"{implied}{estimate:.0f} K (hot/cold ratio {hot_resistance / cold_resistance:.3g}), "
-            f"outside {low:g}-{high:g} K: check the measurement, or that the lamp is tungsten"
+            f"{implied} (hot/cold ratio {hot_resistance / cold_resistance:.3g}), outside "
+            f"{low:g}-{high:g} K: check the measurement, or that the lamp is tungsten"
         )
     temperature = float(np.interp(target, resistivity, grid))
     for _ in range(NEWTON_STEPS):
@@ -180,7 +183,8 @@ class Lamp:
         filament temperature at rated voltage [K]; default from ``DEFAULT_RATED_TEMPERATURE``
         or, if ``cold_resistance`` is given, solved from it. Give one or the other.
     cold_resistance : float, optional
-        measured filament resistance at ambient temperature [ohm]
+        measured filament resistance at ambient temperature [ohm]; refused if the rated
+        temperature it implies lies outside ``RATED_TEMPERATURE_RANGE``
     ambient_temperature : float, default 300.0
         temperature of the bench and the cold filament, 300 to 350 [K]
     conduction_fraction : float, optional

@@ -31,7 +31,7 @@ def _read_table(name):
     return np.loadtxt(DATA_DIRECTORY / name, delimiter=",", skiprows=1, ndmin=2)
 
 
-def check_temperature(temperature, name="temperature", low=TABLE_MIN_TEMPERATURE,
+def _check_temperature(temperature, name="temperature", low=TABLE_MIN_TEMPERATURE,
                       high=TABLE_MAX_TEMPERATURE):
     """
     Return ``temperature`` as a float array after checking it lies in [low, high].
@@ -113,7 +113,7 @@ def tungsten_resistivity(temperature):
        functions of temperature", Gen. Electr. Rev. 30 (1927). See fixtures/physics/SOURCES.md
        for what is and is not known about the provenance of the table.
     """
-    values = check_temperature(temperature)
+    values = _check_temperature(temperature)
     return _resistivity_interpolator()(values)
 
 
@@ -131,7 +131,7 @@ def tungsten_resistivity_derivative(temperature):
     slope : numpy.ndarray
         d(resistivity)/dT, shaped like ``temperature`` [ohm m / K]
     """
-    values = check_temperature(temperature)
+    values = _check_temperature(temperature)
     return _resistivity_interpolator().derivative()(values)
 
 
@@ -162,7 +162,7 @@ def tungsten_emissivity(temperature):
        niobium, molybdenum, and tungsten at high temperatures using a combined
        transient and brief steady-state technique", Int. J. Thermophys. 20, 943 (1999).
     """
-    values = check_temperature(temperature)
+    values = _check_temperature(temperature)
     return np.polynomial.polynomial.polyval(
         values - EMISSIVITY_REFERENCE_TEMPERATURE, _emissivity_coefficients()
     )
@@ -182,7 +182,7 @@ def tungsten_emissivity_derivative(temperature):
     slope : numpy.ndarray
         d(emissivity)/dT, shaped like ``temperature`` [1/K]
     """
-    values = check_temperature(temperature)
+    values = _check_temperature(temperature)
     return np.polynomial.polynomial.polyval(
         values - EMISSIVITY_REFERENCE_TEMPERATURE,
         np.polynomial.polynomial.polyder(_emissivity_coefficients()),
@@ -218,7 +218,7 @@ def tungsten_heat_capacity(temperature):
        as given in the NIST Chemistry WebBook.
     """
     table = _shomate_table()
-    values = check_temperature(temperature, low=table[0, 0], high=table[-1, 1])
+    values = _check_temperature(temperature, low=table[0, 0], high=table[-1, 1])
     upper = values > table[0, 1]
     coefficients = np.where(upper[..., np.newaxis], table[1, 2:], table[0, 2:])
     t = values / 1000.0

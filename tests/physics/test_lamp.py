@@ -253,10 +253,16 @@ def test_warmer_ambient_raises_the_cold_resistance_by_the_resistivity_ratio():
                     tungsten_resistivity(320.0) / tungsten_resistivity(300.0), rtol=1e-12)
 
 
-@pytest.mark.parametrize("cold_resistance", [50.0, 5.0])
-def test_cold_resistance_implying_a_rated_temperature_out_of_range_is_refused(cold_resistance):
-    # 240 ohm hot: a 50 ohm cold reading implies about 1150 K, 5 ohm beyond the table.
-    with pytest.raises(ValueError, match="cold_resistance .* implies a rated filament"):
+@pytest.mark.parametrize(
+    ("cold_resistance", "implied"),
+    [(50.0, "of 1073 K"), (5.0, "above 3600 K"), (300.0, "below 300 K")],
+)
+def test_cold_resistance_implying_a_rated_temperature_out_of_range_is_refused(cold_resistance,
+                                                                             implied):
+    # 240 ohm hot: 50 ohm cold is a ratio of 4.8, 5 ohm beyond the table, 300 ohm colder than
+    # the bench.
+    with pytest.raises(ValueError, match=f"cold_resistance .* implies a rated filament "
+                                         f"temperature {implied}"):
         Lamp(120.0, 60.0, cold_resistance=cold_resistance)
 
 
