@@ -17,7 +17,7 @@ MAXIMUM_LUMINOUS_EFFICACY = 683.0
 SECOND_RADIATION_CONSTANT = constants.h * constants.c / constants.k
 FIRST_RADIATION_CONSTANT_RADIANCE = 2.0 * constants.h * constants.c**2
 
-# Spectral emissivity of tungsten in the visible, taken as grey across 380-780 nm. De Vos
+# Spectral emissivity of tungsten in the visible, taken as grey across the visible. De Vos
 # (Physica 20, 690, 1954) measured about 0.42-0.47 over the visible at 1600-2800 K, falling
 # slowly with temperature and wavelength (from memory). The total hemispherical emissivity of
 # materials.py is not used here: it is an infrared-weighted average that rises threefold from
