@@ -1,0 +1,501 @@
+"""The series circuit: source, rig windings, tungsten lamp and unit, solved for a whole sweep."""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from shop.physics.loads import Load
+
+DEFAULT_FREQUENCY = 60.0  # [Hz]
+
+# The polish stops once the source-voltage residual is below this fraction of the source
+# voltage (plus SOLVER_ABSOLUTE_TOLERANCE); far below the 1e-9 V the results promise, so the
+# power balance closes to about 1e-12 of the source power.
+SOLVER_RELATIVE_TOLERANCE = 1e-13
+SOLVER_ABSOLUTE_TOLERANCE = 1e-13  # [V]
+# A point whose residual is still above this after the polish is a solver failure, reported.
+SOLVER_RESIDUAL_LIMIT = 1e-9  # [V] per volt of source above 1 V
+SOLVER_MAX_ITERATIONS = 100
+# Doublings of the first current guess allowed while bracketing a bypassed operating point.
+BRACKET_MAX_DOUBLINGS = 60
+
+
+@dataclass(frozen=True)
+class SeriesResult:
+    """Steady operating point of the series circuit, one element per source voltage.
+
+    Every field is a numpy array shaped like the broadcast of the source voltage
+    and the load's parameters.
+
+    Attributes
+    ----------
+    source_voltage : numpy.ndarray
+        RMS source (rig output) voltage [V], as given.
+    load_voltage : numpy.ndarray
+        RMS voltage across the unit [V].
+    current : numpy.ndarray
+        RMS current through lamp, windings and unit [A].
+    lamp_voltage : numpy.ndarray
+        RMS voltage across the lamp [V] (zero when the lamp is bypassed).
+    lamp_power : numpy.ndarray
+        Power into the lamp [W].
+    load_power : numpy.ndarray
+        Real power into the unit [W], ``current**2 * Re(Z)``; for a reactive unit
+        this is the real power, and ``source_voltage * current`` is the apparent
+        power, larger than the sum of the real powers.
+    filament_temperature : numpy.ndarray
+        Lamp filament temperature [K] (ambient when the lamp is bypassed).
+    glow : numpy.ndarray
+        Glow class of the lamp (str), one of ``shop.physics.glow.GLOW_CLASSES``.
+    """
+
+    source_voltage: np.ndarray
+    load_voltage: np.ndarray
+    current: np.ndarray
+    lamp_voltage: np.ndarray
+    lamp_power: np.ndarray
+    load_power: np.ndarray
+    filament_temperature: np.ndarray
+    glow: np.ndarray
+
+
+def check_voltage(value, name):
+    """Return ``value`` as a float array of volts, refusing NaN, infinite and negative volts."""
+    try:
+        voltage = np.asarray(value, dtype=float)
+    except (TypeError, ValueError) as error:
+        raise ValueError(f"{name} must be a number of volts (got {value!r})") from error
+    if np.isnan(voltage).any():
+        raise ValueError(f"{name} must be a number of volts, not NaN")
+    if np.isinf(voltage).any():
+        raise ValueError(f"{name} must be finite (got an infinite voltage)")
+    if (voltage < 0).any():
+        raise ValueError(f"{name} must not be negative (got {voltage.min():g} V)")
+    return voltage
+
+
+def check_source_resistance(value):
+    """Return the source resistance as a float [ohm], refusing negative, NaN and inf."""
+    try:
+        resistance = float(value)
+    except (TypeError, ValueError) as error:
+        raise ValueError(
+            f"source_resistance must be one number of ohms (got {value!r})"
+        ) from error
+    if not np.isfinite(resistance):
+        raise ValueError(f"source_resistance must be finite (got {resistance})")
+    if resistance < 0:
+        raise ValueError(f"source_resistance must not be negative (got {resistance:g} ohm)")
+    return resistance
+
+
+def check_frequency(value):
+    """Return the source frequency as a float [Hz], refusing zero, negative, NaN and inf."""
+    try:
+        frequency = float(value)
+    except (TypeError, ValueError) as error:
+        raise ValueError(f"frequency must be one number of hertz (got {value!r})") from error
+    if not np.isfinite(frequency) or frequency <= 0:
+        raise ValueError(f"frequency must be positive and finite (got {frequency} Hz)")
+    return frequency
+
+
+def check_load(load):
+    """Refuse an object that does not follow the load protocol, naming ``load``."""
+    if not isinstance(load, Load):
+        raise ValueError(
+            f"load must follow the load protocol of shop.physics.loads (rated_power, "
+            f"impedance, scaled, describe, may_cycle); got {type(load).__name__}"
+        )
+
+
+def bracketed_root(function, lower, upper, f_lower, f_upper, tolerance, start=None,
+                   max_iterations=SOLVER_MAX_ITERATIONS):
+    """Roots of a vectorised function, each inside its own sign-changing bracket.
+
+    Parameters
+    ----------
+    function : callable
+        ``function(x)`` returns the residual for every element of the 1-D array
+        ``x`` (evaluated all at once; elements already converged are ignored).
+    lower, upper : numpy.ndarray
+        1-D brackets, ``lower <= upper``, with ``f_lower`` and ``f_upper`` of
+        opposite sign (or one of them within ``tolerance`` of zero).
+    f_lower, f_upper : numpy.ndarray
+        Residuals at the bracket ends.
+    tolerance : numpy.ndarray or float
+        A root is accepted once ``|function(x)| <= tolerance``.
+    start : numpy.ndarray, optional
+        A better first estimate inside each bracket than the secant through its
+        ends (e.g. from a higher-order interpolation).
+    max_iterations : int
+        Iterations allowed; the bracket also stops once it is a few ulp wide.
+
+    Returns
+    -------
+    x, residual : numpy.ndarray
+        The roots and the residual at each.
+
+    Notes
+    -----
+    Safeguarded secant: while the residual keeps halving, each step is the
+    secant through the last two iterates; otherwise it is Illinois false
+    position (Dowell & Jarratt 1971), the secant through the bracket ends with
+    the residual of an end kept twice halved. Every step is checked to lie
+    inside the bracket, which shrinks each time and guarantees convergence;
+    a step that would leave it falls back to bisection.
+
+    References
+    ----------
+    M. Dowell and P. Jarratt, "A modified regula falsi method for computing
+    the root of an equation", BIT 11, 168-174 (1971).
+    """
+    lower = np.array(lower, dtype=float)
+    upper = np.array(upper, dtype=float)
+    f_lower = np.array(f_lower, dtype=float)
+    f_upper = np.array(f_upper, dtype=float)
+    tolerance = np.broadcast_to(np.asarray(tolerance, dtype=float), lower.shape)
+    at_upper = np.abs(f_upper) <= tolerance
+    x = np.where(at_upper, upper, lower)
+    residual = np.where(at_upper, f_upper, f_lower)
+    done = np.abs(residual) <= tolerance
+    nearer_upper = np.abs(f_upper) < np.abs(f_lower)
+    previous = np.where(nearer_upper, upper, lower)
+    f_previous = np.where(nearer_upper, f_upper, f_lower)
+    kept = np.zeros(lower.shape, dtype=int)  # +1: upper end kept last step, -1: lower end
+    for iteration in range(max_iterations):
+        active = ~done
+        if not active.any():
+            break
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = (lower * f_upper - upper * f_lower) / (f_upper - f_lower)
+            secant = x - residual * (x - previous) / (residual - f_previous)
+        if iteration == 0 and start is not None:
+            step = np.array(start, dtype=float)
+        elif iteration > 0:
+            # The secant through the last two iterates, while it keeps halving the residual.
+            improving = np.abs(residual) <= 0.5 * np.abs(f_previous)
+            step = np.where(improving & (secant > lower) & (secant < upper), secant, step)
+        outside = ~((step > lower) & (step < upper))
+        step = np.where(outside, 0.5 * (lower + upper), step)
+        step = np.where(active, step, x)
+        f_step = function(step)
+        previous = np.where(active, x, previous)
+        f_previous = np.where(active, residual, f_previous)
+        x = np.where(active, step, x)
+        residual = np.where(active, f_step, residual)
+        converged = active & (np.abs(f_step) <= tolerance)
+        moving = active & ~converged
+        replace_upper = moving & (np.sign(f_step) == np.sign(f_upper))
+        replace_lower = moving & ~replace_upper
+        f_lower = np.where(replace_upper & (kept == 1), 0.5 * f_lower, f_lower)
+        f_upper = np.where(replace_lower & (kept == -1), 0.5 * f_upper, f_upper)
+        upper = np.where(replace_upper, step, upper)
+        f_upper = np.where(replace_upper, f_step, f_upper)
+        lower = np.where(replace_lower, step, lower)
+        f_lower = np.where(replace_lower, f_step, f_lower)
+        kept = np.where(replace_upper, 1, np.where(replace_lower, -1, kept))
+        width = upper - lower
+        collapsed = width <= 4 * np.finfo(float).eps * np.maximum(np.abs(lower), np.abs(upper))
+        done |= converged | (moving & collapsed)
+    return x, residual
+
+
+def _solver_tolerance(source_voltage):
+    return SOLVER_RELATIVE_TOLERANCE * source_voltage + SOLVER_ABSOLUTE_TOLERANCE
+
+
+def _check_residual(residual, target):
+    limit = SOLVER_RESIDUAL_LIMIT * np.maximum(target, 1.0)
+    if (np.abs(residual) > limit).any():
+        worst = np.argmax(np.abs(residual) / limit)
+        raise RuntimeError(
+            f"series solver did not converge: residual {residual.flat[worst]:.3g} V at "
+            f"{target.flat[worst]:g} V source (limit {limit.flat[worst]:.3g} V)"
+        )
+
+
+def _load_shape(load, frequency):
+    return np.shape(load.impedance(0.0, frequency))
+
+
+def _open_columns(impedance, name="load"):
+    """Which loads are open (infinite impedance at every current), refusing a mixture."""
+    infinite = ~np.isfinite(impedance)
+    open_ = infinite.all(axis=0)
+    if (infinite.any(axis=0) & ~open_).any():
+        raise ValueError(
+            f"{name} impedance must be finite at every current or infinite (open) at every "
+            "current; a load that opens at some currents needs a time-domain model"
+        )
+    return open_
+
+
+def _unit_side(load, current, target, frequency, open_):
+    """Unit volts and real power from the current (open units: no current, full source)."""
+    impedance = load.impedance(current, frequency)
+    with np.errstate(invalid="ignore"):
+        load_voltage = np.where(open_, target, current * np.abs(impedance))
+        load_power = np.where(open_, 0.0, current**2 * impedance.real)
+    return load_voltage, load_power
+
+
+def _series_solution(lamp, load, target, source_resistance, frequency):
+    """Lamp volts, current and the open-unit mask, shaped like target and load broadcast."""
+    load_shape = _load_shape(load, frequency)
+    shape = np.broadcast_shapes(target.shape, load_shape)
+    curve = lamp.curve()
+    grid_voltage = np.asarray(curve.voltage, dtype=float)
+    grid_current = np.asarray(curve.current, dtype=float)
+    column = (-1,) + (1,) * len(load_shape)
+    grid_impedance = load.impedance(grid_current.reshape(column), frequency)
+    grid_impedance = np.broadcast_to(grid_impedance, (grid_voltage.size,) + load_shape)
+    open_ = _open_columns(grid_impedance[1:])
+    with np.errstate(invalid="ignore"):
+        required = np.abs(grid_voltage.reshape(column) + grid_current.reshape(column)
+                          * (source_resistance + np.where(open_, 0.0, grid_impedance)))
+    required[0] = 0.0
+    if not (np.diff(required, axis=0) > 0).all():
+        raise ValueError(
+            "load has no unique operating point with this lamp: the source voltage needed "
+            "does not rise with the current (a load whose voltage falls as it draws more, "
+            "such as a constant-power input, needs its own model)"
+        )
+
+    required = required.reshape(grid_voltage.size, -1)
+    open_ = np.broadcast_to(open_.reshape(load_shape), shape).ravel()
+    column_of_point = np.broadcast_to(
+        np.arange(required.shape[1]).reshape(load_shape), shape).ravel()
+    flat_target = np.broadcast_to(target, shape).ravel()
+    largest = required[-1, column_of_point]
+    beyond = (flat_target > largest) & ~open_
+    if beyond.any():
+        worst = np.argmax(np.where(beyond, flat_target - largest, -np.inf))
+        raise ValueError(
+            f"source_voltage {flat_target[worst]:g} V is beyond what this lamp's table supports "
+            f"with this load and source resistance (at most {largest[worst]:.4g} V)"
+        )
+
+    if required.shape[1] == 1:
+        index = np.searchsorted(required[:, 0], flat_target)
+    else:
+        index = (required[:, column_of_point] < flat_target).sum(axis=0)
+    index = np.clip(index, 1, grid_voltage.size - 1)
+    lower, upper = grid_voltage[index - 1], grid_voltage[index]
+    f_lower = required[index - 1, column_of_point] - flat_target
+    f_upper = required[index, column_of_point] - flat_target
+    latest = {}
+
+    def residual(lamp_voltage):
+        current = np.asarray(lamp.current(lamp_voltage), dtype=float)
+        latest.update(voltage=lamp_voltage, current=current)
+        impedance = load.impedance(current.reshape(shape), frequency).ravel()
+        with np.errstate(invalid="ignore"):
+            needed = np.abs(lamp_voltage + current * (source_resistance + impedance))
+        return np.where(open_, 0.0, needed - flat_target)
+
+    lamp_voltage, remainder = bracketed_root(
+        residual, lower, upper, f_lower, f_upper, _solver_tolerance(flat_target))
+    _check_residual(remainder, flat_target)
+    # The last evaluation saw every point at its root unless no step was needed at all.
+    if latest and np.array_equal(latest["voltage"], lamp_voltage):
+        current = latest["current"]
+    else:
+        current = np.asarray(lamp.current(lamp_voltage), dtype=float)
+    open_ = open_.reshape(shape)
+    current = np.where(open_, 0.0, current.reshape(shape))
+    lamp_voltage = np.where(open_, 0.0, lamp_voltage.reshape(shape))
+    return lamp_voltage, current, open_
+
+
+def _bypassed_solution(load, target, source_resistance, frequency):
+    """Current and the open-unit mask with the lamp shorted out, shaped like the broadcast."""
+    shape = np.broadcast_shapes(target.shape, _load_shape(load, frequency))
+    flat_target = np.broadcast_to(target, shape).ravel()
+    cold = np.broadcast_to(load.impedance(0.0, frequency), shape).ravel()
+    open_ = ~np.isfinite(cold)
+    start = np.abs(source_resistance + np.where(open_, 1.0, cold))
+    if ((start == 0) & (flat_target > 0)).any():
+        raise ValueError(
+            "source_resistance must be positive to bypass the lamp on a dead short: the "
+            "current would be unbounded"
+        )
+
+    def residual(current):
+        impedance = load.impedance(current.reshape(shape), frequency).ravel()
+        with np.errstate(invalid="ignore"):
+            needed = current * np.abs(source_resistance + impedance)
+        return np.where(open_, 0.0, needed - flat_target)
+
+    with np.errstate(divide="ignore", invalid="ignore"):
+        upper = np.where(flat_target > 0, flat_target / start, 0.0)
+    f_upper = residual(upper)
+    for _ in range(BRACKET_MAX_DOUBLINGS):
+        short_of = f_upper < 0
+        if not short_of.any():
+            break
+        upper = np.where(short_of, 2 * upper, upper)
+        f_upper = residual(upper)
+    else:
+        raise ValueError("load has no operating point straight on this source")
+    current, remainder = bracketed_root(
+        residual, np.zeros_like(upper), upper, -flat_target, f_upper,
+        _solver_tolerance(flat_target))
+    _check_residual(remainder, flat_target)
+    open_ = open_.reshape(shape)
+    return np.where(open_, 0.0, current.reshape(shape)), open_
+
+
+def _checked(load, source_voltage, source_resistance, frequency):
+    check_load(load)
+    return (check_voltage(source_voltage, "source_voltage"),
+            check_source_resistance(source_resistance), check_frequency(frequency))
+
+
+def _result(lamp, load, target, lamp_voltage, current, frequency, open_):
+    target = np.broadcast_to(target, current.shape).copy()
+    load_voltage, load_power = _unit_side(load, current, target, frequency, open_)
+    return SeriesResult(
+        source_voltage=target,
+        load_voltage=load_voltage,
+        current=current,
+        lamp_voltage=lamp_voltage,
+        lamp_power=lamp_voltage * current,
+        load_power=load_power,
+        filament_temperature=np.asarray(lamp.filament_temperature(lamp_voltage), dtype=float),
+        glow=np.asarray(lamp.glow(lamp_voltage)),
+    )
+
+
+def solve_series(lamp, load, source_voltage, source_resistance=0.0, frequency=DEFAULT_FREQUENCY):
+    """Steady operating point of a unit powered through a series lamp, for a whole sweep.
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The series lamp (``shop.physics.lamp``); anything with ``curve()``,
+        ``current(voltage)``, ``filament_temperature(voltage)`` and
+        ``glow(voltage)`` will do.
+    load : Load
+        The unit, any model following the protocol of ``shop.physics.loads``.
+        A model with array parameters is solved for each, broadcast against
+        ``source_voltage``.
+    source_voltage : numeric
+        RMS output voltage of the rig [V], scalar or array, ``>= 0``.
+    source_resistance : float, default 0.0
+        Resistance of the rig's windings (autotransformer and isolation
+        transformer) in series [ohm], ``>= 0``.
+    frequency : float, default 60.0
+        Source frequency [Hz].
+
+    Returns
+    -------
+    SeriesResult
+        Arrays shaped like ``source_voltage`` (broadcast against the load's
+        parameters).
+
+    Raises
+    ------
+    ValueError
+        For negative, NaN or infinite volts, a negative source resistance, a
+        load outside the protocol or one with no unique operating point, and a
+        source voltage beyond what the lamp's table supports (naming
+        ``source_voltage`` and the largest it supports).
+
+    Notes
+    -----
+    The lamp is a resistance and the unit an impedance :math:`Z(I)`, so the
+    phasor sum of the drops is the source voltage:
+
+    .. math:: V_s = I \\, |R_{lamp}(I) + R_s + Z(I)| = |V_{lamp} + I (R_s + Z(I))|
+
+    On the lamp's own curve (``lamp.curve()``: voltage and current on a dense
+    grid) every point gives :math:`I` and :math:`V_{lamp}`, hence the source
+    voltage that drives it. For a passive unit that source voltage rises with
+    the current, so its inverse is interpolated on the grid for a bracketed
+    first guess, and every point is then polished at once by Illinois false
+    position in the lamp voltage (each step asks ``lamp.current``) until the
+    residual is about 1e-13 of the source voltage. The drops add as phasors,
+    never as RMS numbers. A unit whose impedance is infinite is open: no
+    current flows and it sees the whole source voltage.
+    """
+    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
+                                                    frequency)
+    lamp_voltage, current, open_ = _series_solution(lamp, load, target, source_resistance,
+                                                    frequency)
+    return _result(lamp, load, target, lamp_voltage, current, frequency, open_)
+
+
+def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0,
+                   frequency=DEFAULT_FREQUENCY):
+    """Operating point with the lamp bypassed: the unit straight on the source through the rig.
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The series lamp, shorted by its bypass switch (it sits at 0 V, ambient
+        temperature, dark).
+    load : Load
+        The unit, any model following the protocol of ``shop.physics.loads``.
+    source_voltage : numeric
+        RMS output voltage of the rig [V], ``>= 0``.
+    source_resistance : float, default 0.0
+        Resistance of the rig's windings [ohm], ``>= 0``; with a dead short
+        and no source resistance the current is unbounded and refused.
+    frequency : float, default 60.0
+        Source frequency [Hz].
+
+    Returns
+    -------
+    SeriesResult
+        With ``lamp_voltage`` and ``lamp_power`` zero.
+
+    Notes
+    -----
+    :math:`V_s = I \\, |R_s + Z(I)|`, solved for :math:`I` by Illinois false
+    position in a bracket grown from :math:`V_s / |R_s + Z(0)|` by doubling.
+    """
+    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
+                                                    frequency)
+    current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
+    return _result(lamp, load, target, np.zeros(current.shape), current, frequency, open_)
+
+
+def unit_operating_point(lamp, load, source_voltage, source_resistance=0.0,
+                         frequency=DEFAULT_FREQUENCY, *, lamp_bypassed=False):
+    """Unit volts and current alone: the operating point without the lamp's glow.
+
+    The same solution as :func:`solve_series` (or :func:`solve_bypassed` when
+    ``lamp_bypassed``), for searches that call the solver many times and need
+    only what the meters read.
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The series lamp.
+    load : Load
+        The unit, any model following the protocol of ``shop.physics.loads``.
+    source_voltage : numeric
+        RMS output voltage of the rig [V], ``>= 0``.
+    source_resistance : float, default 0.0
+        Resistance of the rig's windings [ohm], ``>= 0``.
+    frequency : float, default 60.0
+        Source frequency [Hz].
+    lamp_bypassed : bool, default False
+        Whether the lamp is switched out.
+
+    Returns
+    -------
+    load_voltage, current : numpy.ndarray
+        RMS unit volts [V] and current [A], shaped like ``source_voltage``
+        broadcast against the load's parameters.
+    """
+    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
+                                                    frequency)
+    if lamp_bypassed:
+        current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
+    else:
+        _, current, open_ = _series_solution(lamp, load, target, source_resistance, frequency)
+    load_voltage, _ = _unit_side(load, current, np.broadcast_to(target, current.shape),
+                                 frequency, open_)
+    return load_voltage, current

@@ -1,0 +1,112 @@
+"""Independent readings for the judgement tests: scalar brentq solves, perturbed lamps, meter noise.
+
+Nothing here uses ``shop.physics.circuit``: the operating point is found point by point with
+``scipy.optimize.brentq`` (the filament temperature inside the circuit), from the lamp's own
+physical model (``resistance_at_temperature`` and ``power_loss``), so the judgement is tested
+against readings it did not produce.
+"""
+
+import numpy as np
+from scipy.optimize import brentq
+
+from shop.physics.judgement import Reading
+from shop.physics.lamp import Lamp
+from shop.physics.materials import TABLE_MAX_TEMPERATURE
+
+# Spread of the lamp that "really" sat in the rig, against the nominal lamp the judgement is
+# told about: +/-5 % rated power and +/-100 K rated filament temperature (issue 3).
+POWER_SPREAD = 0.05
+TEMPERATURE_SPREAD = 100.0  # [K]
+# The meter of the generated readings: within +/-(1 % + 0.5 V) and +/-(2 % + 5 mA), the
+# judgement's default meter; noise is normal with half that as standard deviation, clipped at it.
+METER = (0.01, 0.5)
+AMMETER = (0.02, 0.005)
+
+
+def filament_temperature(lamp, voltage):
+    """Filament temperature [K] at a lamp voltage [V]: brentq on V**2 / R(T) = P_loss(T)."""
+    if voltage == 0:
+        return lamp.ambient_temperature
+
+    def balance(temperature):
+        return voltage**2 / lamp.resistance_at_temperature(temperature) - lamp.power_loss(
+            temperature)
+
+    return brentq(balance, lamp.ambient_temperature, TABLE_MAX_TEMPERATURE, xtol=1e-12,
+                  rtol=1e-15)
+
+
+def lamp_current(lamp, voltage):
+    """Lamp current [A] at a lamp voltage [V], from the scalar filament temperature."""
+    if voltage == 0:
+        return 0.0
+    return voltage / float(lamp.resistance_at_temperature(filament_temperature(lamp, voltage)))
+
+
+def operating_point(lamp, impedance, source_voltage, source_resistance=0.0,
+                    lamp_bypassed=False):
+    """Unit volts [V], current [A] and lamp volts [V] for a unit of fixed complex impedance.
+
+    brentq over the lamp voltage of ``|V_lamp + I (R_s + Z)| = V_s`` (phasors; the lamp is a
+    resistance). ``impedance`` inf is an open unit. With the lamp bypassed the current is
+    ``V_s / |R_s + Z|``.
+    """
+    impedance = complex(impedance)
+    if np.isinf(abs(impedance)) or source_voltage == 0:
+        return source_voltage if np.isinf(abs(impedance)) else 0.0, 0.0, 0.0
+    if lamp_bypassed:
+        current = source_voltage / abs(source_resistance + impedance)
+        return current * abs(impedance), current, 0.0
+
+    def circuit(lamp_voltage):
+        current = lamp_current(lamp, lamp_voltage)
+        return abs(lamp_voltage + current * (source_resistance + impedance)) - source_voltage
+
+    lamp_voltage = brentq(circuit, 0.0, source_voltage, xtol=1e-13, rtol=1e-15)
+    current = lamp_current(lamp, lamp_voltage)
+    return current * abs(impedance), current, lamp_voltage
+
+
+def perturbed_lamp(lamp, power_factor, temperature_shift):
+    """The lamp that "really" sat in the rig: rated power and rated temperature moved."""
+    return Lamp(lamp.rated_voltage, lamp.rated_power * power_factor, fill=lamp.fill,
+                rated_temperature=lamp.rated_temperature + temperature_shift,
+                ambient_temperature=lamp.ambient_temperature)
+
+
+def random_perturbed_lamp(lamp, rng):
+    """A lamp drawn uniformly within +/-POWER_SPREAD and +/-TEMPERATURE_SPREAD of ``lamp``."""
+    return perturbed_lamp(lamp, 1.0 + rng.uniform(-POWER_SPREAD, POWER_SPREAD),
+                          rng.uniform(-TEMPERATURE_SPREAD, TEMPERATURE_SPREAD))
+
+
+def _meter_reading(value, accuracy, rng):
+    limit = accuracy[0] * value + accuracy[1]
+    return max(value + float(np.clip(rng.normal(0.0, limit / 2), -limit, limit)), 0.0)
+
+
+def readings(lamp, impedance, steps, rng, *, source_resistance=0.0, with_current=False,
+             bypassed_steps=(), behaviour="steady", glow_seen=True):
+    """Readings of a unit of ``impedance`` [ohm] through ``lamp`` at each source step [V].
+
+    Source and unit volts (and current, if ``with_current``) carry seeded meter noise; the
+    glow seen is the true lamp's glow class at its true voltage; readings at the source steps
+    listed in ``bypassed_steps`` are taken with the lamp switched out.
+    """
+    taken = []
+    for source in steps:
+        bypassed = source in bypassed_steps
+        load_voltage, current, lamp_voltage = operating_point(
+            lamp, impedance, source, source_resistance, lamp_bypassed=bypassed)
+        glow = str(lamp.glow(lamp_voltage)) if glow_seen and not bypassed else None
+        taken.append(Reading(
+            source_voltage=_meter_reading(source, METER, rng),
+            load_voltage=_meter_reading(load_voltage, METER, rng),
+            current=_meter_reading(current, AMMETER, rng) if with_current else None,
+            glow_seen=glow,
+            behaviour_seen=None if bypassed else behaviour,
+            lamp_bypassed=bypassed,
+            seconds_held=10.0,
+            seconds_since_switch_on=5.0,
+        ))
+    return taken
