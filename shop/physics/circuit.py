@@ -9,10 +9,9 @@ from shop.physics.loads import Load
 DEFAULT_FREQUENCY = 60.0  # [Hz]
 
 # The polish stops once the source-voltage residual is below this fraction of the source
-# voltage (plus SOLVER_ABSOLUTE_TOLERANCE); far below the 1e-9 V the results promise, so the
-# power balance closes to about 1e-12 of the source power.
+# voltage (or the bracket is a few ulp wide): far below the 1e-9 V the results promise, and
+# relative so that the power balance closes to about 1e-13 even at microvolts.
 SOLVER_RELATIVE_TOLERANCE = 1e-13
-SOLVER_ABSOLUTE_TOLERANCE = 1e-13  # [V]
 # A point whose residual is still above this after the polish is a solver failure, reported.
 SOLVER_RESIDUAL_LIMIT = 1e-9  # [V] per volt of source above 1 V
 SOLVER_MAX_ITERATIONS = 100
@@ -202,7 +201,7 @@ def bracketed_root(function, lower, upper, f_lower, f_upper, tolerance, start=No
 
 
 def _solver_tolerance(source_voltage):
-    return SOLVER_RELATIVE_TOLERANCE * source_voltage + SOLVER_ABSOLUTE_TOLERANCE
+    return SOLVER_RELATIVE_TOLERANCE * source_voltage
 
 
 def _check_residual(residual, target):
