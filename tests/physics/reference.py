@@ -23,6 +23,44 @@ METER = (0.01, 0.5)
 AMMETER = (0.02, 0.005)
 
 
+class SeriesInductance:
+    """A test load: resistance and inductance in series, for checks of the phasor sum.
+
+    Parameters
+    ----------
+    resistance : numeric
+        Series resistance [ohm].
+    inductance : numeric
+        Series inductance [H].
+    """
+
+    may_cycle = False
+
+    def __init__(self, resistance, inductance):
+        self.resistance = np.asarray(resistance, dtype=float)
+        self.inductance = np.asarray(inductance, dtype=float)
+
+    @property
+    def rated_power(self):
+        """Real power [W] at 120 V, 60 Hz."""
+        reactance = 2 * np.pi * 60.0 * self.inductance
+        return 120.0**2 * self.resistance / (self.resistance**2 + reactance**2)
+
+    def impedance(self, current, frequency):
+        """``R + j 2 pi f L`` [ohm], whatever the current."""
+        value = self.resistance + 2j * np.pi * frequency * self.inductance
+        shape = np.broadcast_shapes(np.shape(current), value.shape)
+        return np.broadcast_to(value, shape).astype(complex)
+
+    def scaled(self, factor):
+        """The same unit drawing ``factor`` times as much: impedance divided by it."""
+        factor = np.asarray(factor, dtype=float)
+        return SeriesInductance(self.resistance / factor, self.inductance / factor)
+
+    def describe(self):
+        return {"model": "series R-L (test)", "summary": "resistance and inductance in series"}
+
+
 def filament_temperature(lamp, voltage):
     """Filament temperature [K] at a lamp voltage [V]: brentq on V**2 / R(T) = P_loss(T)."""
     if voltage == 0:

@@ -23,31 +23,6 @@ LAMP_60 = Lamp(120.0, 60.0)
 UNIT_30 = ResistiveLoad.from_rating(120.0, 30.0)
 
 
-class SeriesInductance:
-    """A test double: resistance and inductance in series, for the phasor sum."""
-
-    may_cycle = False
-
-    def __init__(self, resistance, inductance):
-        self.resistance = np.asarray(resistance, dtype=float)
-        self.inductance = inductance
-
-    @property
-    def rated_power(self):
-        return 120.0**2 * self.resistance / (self.resistance**2 + (377.0 * self.inductance)**2)
-
-    def impedance(self, current, frequency):
-        shape = np.broadcast_shapes(np.shape(current), self.resistance.shape)
-        value = self.resistance + 2j * np.pi * frequency * self.inductance
-        return np.broadcast_to(value, shape).astype(complex)
-
-    def scaled(self, factor):
-        return SeriesInductance(self.resistance / factor, self.inductance / factor)
-
-    def describe(self):
-        return {"model": "test R-L", "summary": "resistance and inductance in series"}
-
-
 class ConstantPower:
     """A test double drawing a fixed power whatever the voltage: Z = P / I**2."""
 
@@ -178,7 +153,7 @@ def test_a_lamp_bank_solves_as_one_lamp():
 
 
 def test_a_reactive_unit_adds_its_drop_as_a_phasor_not_as_a_number():
-    load = SeriesInductance(300.0, 0.5)
+    load = reference.SeriesInductance(300.0, 0.5)
     result = solve_series(LAMP_60, load, 120.0, source_resistance=2.0)
     reactance = 2 * np.pi * 60.0 * 0.5
     in_phase = result.lamp_voltage + result.current * (2.0 + 300.0)
@@ -189,7 +164,7 @@ def test_a_reactive_unit_adds_its_drop_as_a_phasor_not_as_a_number():
 
 
 def test_a_reactive_unit_balances_real_power():
-    load = SeriesInductance(300.0, 0.5)
+    load = reference.SeriesInductance(300.0, 0.5)
     result = solve_series(LAMP_60, load, 120.0, source_resistance=2.0)
     real_supplied = result.current * (result.lamp_voltage + result.current * (2.0 + 300.0))
     spent = result.lamp_power + result.load_power + result.current**2 * 2.0

@@ -1,0 +1,809 @@
+"""Judging a power-up test: each reading against what a healthy unit shows through the lamp.
+
+Outcomes
+--------
+``fail``
+    A reading outside its band shows the unit drawing at least
+    ``fail_draw_multiple`` (default 2x) of the declared load, or at most
+    ``open_draw_multiple`` (default 0.2x: next to nothing, an open fuse,
+    switch or winding), even with the meters' uncertainty taken in the
+    unit's favour; or the lamp was seen bright where a healthy unit keeps it
+    dark or faint.
+``marginal``
+    No fail, but a reading falls outside its band (the unit draws more or
+    less than declared, not certainly beyond those multiples), the glow seen
+    is two or more classes off the prediction, or the glow cycled for a unit
+    whose model cannot cycle.
+``inconclusive``
+    Every reading is in band, but none reached ``full_source_fraction``
+    (default 0.9) of the nominal mains, or none of those that did could tell a
+    doubling of draw from the meter's uncertainty (the lamp is too large).
+``pass``
+    Every reading is in band, the test reached full source, and there a
+    doubling of draw would have shown.
+
+Unit volts alone cannot tell an open unit from one drawing a third of its load: with
+nothing drawn the lamp stays cold, and a cold filament's few ohms drop only a volt or so at
+a fraction of the declared current, within two meter readings' uncertainty. Such a reading
+is reported as drawing less than declared, "perhaps nothing at all"; a measured current
+settles it.
+
+Reason codes (module constants; each reason carries a sentence with the numbers)
+-------------------------------------------------------------------------------
+- ``draw_high`` (fail): inferred draw at or above the fail multiple.
+- ``draw_near_zero`` (fail): inferred draw at or below the open multiple.
+- ``draw_above_band`` (marginal): above the band, below the fail multiple.
+- ``draw_below_band`` (marginal): below the band, above the open multiple.
+- ``glow_bright_unexpected`` (fail): lamp seen bright, predicted dark or faint.
+- ``glow_brighter_than_predicted`` (marginal): two or more classes brighter.
+- ``glow_dimmer_than_predicted`` (marginal): two or more classes dimmer.
+- ``glow_cycling_unexpected`` (marginal): the glow cycled and the declared
+  load model cannot cycle (``load.may_cycle`` is false): an intermittent
+  connection, a thermal cut-out, or a unit that is not what was declared.
+- ``source_not_full`` (inconclusive): no reading reached full source.
+- ``lamp_too_large`` (inconclusive): at full source a doubling of draw moves
+  the reading by less than the meter's uncertainty.
+- ``bypass_without_current`` (inconclusive): the only full-source readings
+  were taken with the lamp bypassed and no current measured, so the unit's
+  volts follow the source whatever it draws.
+- ``all_in_band`` (pass).
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from shop.physics.circuit import (
+    DEFAULT_FREQUENCY,
+    bracketed_root,
+    check_frequency,
+    check_load,
+    check_source_resistance,
+    solve_bypassed,
+    solve_series,
+    unit_operating_point,
+)
+from shop.physics.glow import GLOW_CLASSES
+
+OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
+BEHAVIOURS = ("steady", "flash_then_dims", "cycling")
+
+# "Reached full source": the highest source reading must be at least this fraction of the rig's
+# nominal mains (DESIGN.md 3.3 asks for at least 90 %; ANSI C84.1 Range A puts 120 V service at
+# 114-126 V, 95-105 %, so 90 % of nominal is below any healthy mains).
+FULL_SOURCE_FRACTION = 0.9
+# A unit drawing twice its declared load is faulty, not merely off its nameplate (common
+# practice, no source; nameplates and idle draw are good to tens of per cent, not 2x).
+FAIL_DRAW_MULTIPLE = 2.0
+# A unit drawing a fifth or less of its declared load is taken as open (common practice, no
+# source): a healthy unit idles lower than its nameplate, but not that much lower once the
+# declared load is what it should draw as configured on the bench.
+OPEN_DRAW_MULTIPLE = 0.2
+# Spread of lamp rated power: general-service lamps are made to about +/-5-8 % (from memory);
+# 10 % also covers the few-per-cent change of low-voltage current that a +/-100 K spread of
+# filament temperature at rating brings. Modelled as the same filament design drawing (1 +/- t)
+# times the current at every voltage, which is exact for a lamp of that model with rated power
+# scaled by (1 +/- t) and the same rated temperature and conduction fraction.
+LAMP_POWER_TOLERANCE = 0.10
+# Uncertainty of the declared load, as a fraction of it (common practice, no source).
+LOAD_TOLERANCE = 0.20
+# A handheld multimeter on AC volts: about +/-(1 % of reading + 5 counts) at 0.1 V resolution
+# (typical data-sheet figure, from memory); the same meter reads source and unit volts.
+METER_RELATIVE_ACCURACY = 0.01
+METER_ABSOLUTE_ACCURACY = 0.5  # [V]
+# The same class of meter on AC amps: about +/-(1.5 % + 3 counts) at 1 mA resolution (from
+# memory), rounded up for the clamp meters many benches use.
+CURRENT_RELATIVE_ACCURACY = 0.02
+CURRENT_ABSOLUTE_ACCURACY = 0.005  # [A]
+# A reading can tell a fault when a doubling of draw moves it by at least this multiple of the
+# meter's uncertainty (DESIGN.md 3.3: below the uncertainty the lamp is too large to tell).
+MIN_SENSITIVITY_RATIO = 1.0
+
+# Inferred draw is searched between these multiples of the declared load; a reading beyond
+# them is reported as 0 (no measurable draw) or inf (a dead short or worse), and one whose
+# prediction does not move with the draw as nan.
+DRAW_SEARCH_RANGE = (1e-3, 1e3)
+DRAW_SEARCH_POINTS = 13  # log-spaced multiples giving each reading a starting bracket
+# The draw is polished until the predicted reading matches the measured one to this much on
+# the log scale of _draw_scale, about a part in 1e7 of the reading: far below any meter.
+DRAW_TOLERANCE = 1e-7
+
+DRAW_HIGH = "draw_high"
+DRAW_NEAR_ZERO = "draw_near_zero"
+DRAW_ABOVE_BAND = "draw_above_band"
+DRAW_BELOW_BAND = "draw_below_band"
+GLOW_BRIGHT_UNEXPECTED = "glow_bright_unexpected"
+GLOW_BRIGHTER_THAN_PREDICTED = "glow_brighter_than_predicted"
+GLOW_DIMMER_THAN_PREDICTED = "glow_dimmer_than_predicted"
+GLOW_CYCLING_UNEXPECTED = "glow_cycling_unexpected"
+SOURCE_NOT_FULL = "source_not_full"
+LAMP_TOO_LARGE = "lamp_too_large"
+BYPASS_WITHOUT_CURRENT = "bypass_without_current"
+ALL_IN_BAND = "all_in_band"
+
+# The outcome each reason code leads to; the verdict takes the worst present.
+REASON_OUTCOMES = {
+    DRAW_HIGH: "fail",
+    DRAW_NEAR_ZERO: "fail",
+    GLOW_BRIGHT_UNEXPECTED: "fail",
+    DRAW_ABOVE_BAND: "marginal",
+    DRAW_BELOW_BAND: "marginal",
+    GLOW_BRIGHTER_THAN_PREDICTED: "marginal",
+    GLOW_DIMMER_THAN_PREDICTED: "marginal",
+    GLOW_CYCLING_UNEXPECTED: "marginal",
+    SOURCE_NOT_FULL: "inconclusive",
+    LAMP_TOO_LARGE: "inconclusive",
+    BYPASS_WITHOUT_CURRENT: "inconclusive",
+    ALL_IN_BAND: "pass",
+}
+OUTCOME_SEVERITY = ("pass", "inconclusive", "marginal", "fail")
+
+IN_BAND = "in_band"
+READING_STATUSES = (IN_BAND, DRAW_ABOVE_BAND, DRAW_BELOW_BAND, DRAW_HIGH, DRAW_NEAR_ZERO)
+
+
+def _optional_non_negative(value, name, unit):
+    if value is None:
+        return None
+    number = float(value)
+    if not np.isfinite(number):
+        raise ValueError(f"{name} must be a finite number of {unit} (got {value!r})")
+    if number < 0:
+        raise ValueError(f"{name} must not be negative (got {number:g} {unit})")
+    return number
+
+
+@dataclass(frozen=True)
+class Reading:
+    """One step of a power-up test as the technician recorded it.
+
+    Parameters
+    ----------
+    source_voltage : float
+        RMS voltage at the rig's output [V].
+    load_voltage : float
+        RMS voltage across the unit [V].
+    current : float, optional
+        RMS current into the unit [A], where it was measured.
+    glow_seen : str, optional
+        The lamp's glow as seen, one of ``shop.physics.glow.GLOW_CLASSES``.
+    behaviour_seen : str, optional
+        How the glow behaved, one of ``BEHAVIOURS``: ``steady``,
+        ``flash_then_dims`` or ``cycling``.
+    lamp_bypassed : bool, default False
+        Whether the lamp was switched out (unit straight on the rig).
+    seconds_held : float, optional
+        How long the step was held [s]; kept for the record.
+    seconds_since_switch_on : float, optional
+        Time from switch-on to the reading [s]; kept for the record.
+    """
+
+    source_voltage: float
+    load_voltage: float
+    current: float | None = None
+    glow_seen: str | None = None
+    behaviour_seen: str | None = None
+    lamp_bypassed: bool = False
+    seconds_held: float | None = None
+    seconds_since_switch_on: float | None = None
+
+    def __post_init__(self):
+        for name, unit in (("source_voltage", "V"), ("load_voltage", "V")):
+            if getattr(self, name) is None:
+                raise ValueError(f"{name} is required (in {unit})")
+            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name,
+                                                                  unit))
+        for name, unit in (("current", "A"), ("seconds_held", "s"),
+                           ("seconds_since_switch_on", "s")):
+            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name,
+                                                                  unit))
+        if self.glow_seen is not None and self.glow_seen not in GLOW_CLASSES:
+            raise ValueError(f"glow_seen must be one of {', '.join(GLOW_CLASSES)} "
+                             f"(got {self.glow_seen!r})")
+        if self.behaviour_seen is not None and self.behaviour_seen not in BEHAVIOURS:
+            raise ValueError(f"behaviour_seen must be one of {', '.join(BEHAVIOURS)} "
+                             f"(got {self.behaviour_seen!r})")
+        if not isinstance(self.lamp_bypassed, bool | np.bool_):
+            raise ValueError(f"lamp_bypassed must be True or False (got {self.lamp_bypassed!r})")
+        object.__setattr__(self, "lamp_bypassed", bool(self.lamp_bypassed))
+
+
+@dataclass(frozen=True)
+class Reason:
+    """A machine-readable reason code with a sentence carrying the numbers.
+
+    Attributes
+    ----------
+    code : str
+        One of the reason-code constants of this module.
+    message : str
+        The sentence for the technician.
+    reading : int or None
+        Index of the reading it quotes, if any.
+    """
+
+    code: str
+    message: str
+    reading: int | None = None
+
+    @property
+    def outcome(self):
+        """The outcome this reason leads to."""
+        return REASON_OUTCOMES[self.code]
+
+
+@dataclass(frozen=True)
+class ReadingJudgement:
+    """One reading against its prediction.
+
+    Attributes
+    ----------
+    index : int
+        Position of the reading in the list judged.
+    status : str
+        One of ``READING_STATUSES``.
+    lamp_bypassed : bool
+        Whether it was judged without the lamp.
+    measured : str
+        What the draw was inferred from: ``"current"`` or ``"load_voltage"``.
+    predicted_load_voltage, load_voltage_low, load_voltage_high : float
+        Unit volts of a healthy unit and the band around it [V].
+    predicted_current, current_low, current_high : float
+        Current of a healthy unit and the band around it [A].
+    predicted_glow, glow_dimmest, glow_brightest : str
+        Glow class of a healthy unit and its range across the band.
+    inferred_draw : float
+        The draw that reproduces the reading, as a multiple of the declared
+        load (0: no measurable draw; inf: a dead short or worse; nan: the
+        reading cannot tell, e.g. lamp bypassed with no source resistance and
+        no current measured).
+    inferred_draw_low, inferred_draw_high : float
+        The draws the reading allows within the meters' uncertainty (source
+        and unit), as multiples of the declared load.
+    sensitivity : float
+        Volts at the unit that a doubling of draw would change here [V].
+    current_sensitivity : float
+        Amperes a doubling of draw would change here [A].
+    meter_uncertainty : float
+        Uncertainty of the measured quantity here [V or A, as ``measured``].
+    sensitive : bool
+        Whether a doubling of draw shows above the meter's uncertainty.
+    """
+
+    index: int
+    status: str
+    lamp_bypassed: bool
+    measured: str
+    predicted_load_voltage: float
+    load_voltage_low: float
+    load_voltage_high: float
+    predicted_current: float
+    current_low: float
+    current_high: float
+    predicted_glow: str
+    glow_dimmest: str
+    glow_brightest: str
+    inferred_draw: float
+    inferred_draw_low: float
+    inferred_draw_high: float
+    sensitivity: float
+    current_sensitivity: float
+    meter_uncertainty: float
+    sensitive: bool
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """The outcome of a power-up test, its reasons and each reading's judgement.
+
+    Attributes
+    ----------
+    outcome : str
+        One of ``OUTCOMES``.
+    reasons : tuple of Reason
+        Worst first; one per reason code present.
+    readings : tuple of ReadingJudgement
+        In the order the readings were given.
+    settings : dict
+        The tolerances and limits the judgement used.
+    """
+
+    outcome: str
+    reasons: tuple
+    readings: tuple
+    settings: dict
+
+    @property
+    def codes(self):
+        """The reason codes, worst first."""
+        return tuple(reason.code for reason in self.reasons)
+
+
+class _SpreadLamp:
+    """The same filament design drawing ``factor`` times the current at every lamp voltage."""
+
+    def __init__(self, lamp, factor):
+        self._lamp = lamp
+        self._factor = factor
+        base = lamp.curve()
+        self._curve = base._replace(current=base.current * factor)
+        self.max_voltage = lamp.max_voltage
+
+    def curve(self):
+        return self._curve
+
+    def current(self, voltage):
+        return self._factor * self._lamp.current(voltage)
+
+    def filament_temperature(self, voltage):
+        return self._lamp.filament_temperature(voltage)
+
+    def glow(self, voltage):
+        return self._lamp.glow(voltage)
+
+
+def _on_last_axis(values, mask):
+    """Pick the readings in ``mask`` from a per-reading array; leave others to broadcast."""
+    values = np.asarray(values)
+    if values.ndim and values.shape[-1] == mask.size:
+        return values[..., mask]
+    return values
+
+
+def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
+    """Unit volts, current and glow for ``load.scaled(factor)``, the lamp in or bypassed."""
+    shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
+    load_voltage = np.empty(shape)
+    current = np.empty(shape)
+    glow = np.empty(shape, dtype=f"<U{max(map(len, GLOW_CLASSES))}")
+    for mask, solve in ((~bypassed, solve_series), (bypassed, solve_bypassed)):
+        if mask.any():
+            result = solve(lamp, load.scaled(_on_last_axis(factor, mask)), source_voltage[mask],
+                           source_resistance, frequency)
+            load_voltage[..., mask] = result.load_voltage
+            current[..., mask] = result.current
+            glow[..., mask] = result.glow
+    return load_voltage, current, glow
+
+
+def _predict_meters(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
+    """Unit volts and current for ``load.scaled(factor)``: what the meters read, no glow."""
+    shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
+    load_voltage = np.empty(shape)
+    current = np.empty(shape)
+    for mask in (~bypassed, bypassed):
+        if mask.any():
+            load_voltage[..., mask], current[..., mask] = unit_operating_point(
+                lamp, load.scaled(_on_last_axis(factor, mask)), source_voltage[mask],
+                source_resistance, frequency, lamp_bypassed=bool(mask is bypassed))
+    return load_voltage, current
+
+
+def _uncertainty(value, relative, absolute):
+    return relative * np.abs(value) + absolute
+
+
+def _draw_scale(load_voltage, current, source_voltage, by_current):
+    """A reading on a scale that rises with the draw, close to linear in the draw's log.
+
+    Unit volts become ``log((V_s - V) / V)`` (about the log of the lamp-to-unit impedance
+    ratio, so nearly proportional to the log of the draw), current ``log(I)``. Readings at or
+    beyond the source voltage map to ``-inf`` (no draw), zero volts to ``+inf``.
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        drop = np.maximum(source_voltage - load_voltage, 0.0)
+        volts = np.log(drop) - np.log(load_voltage)
+        amps = np.log(current)
+    return np.where(by_current, amps, volts)
+
+
+def _infer_draw(lamp, load, source_voltage, measured, by_current, bypassed, grid_voltage,
+                grid_current, source_resistance, frequency):
+    """The multiple of the declared load that reproduces each reading (vectorised).
+
+    The predicted reading is monotone in the draw (unit volts fall, current rises), so each
+    reading is bracketed on the log-spaced grid of draws and polished by Illinois false
+    position in the log of the draw, every reading at once, on ``_draw_scale``.
+    """
+    log_grid = np.log(np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS))
+    rising = _draw_scale(grid_voltage, grid_current, source_voltage, by_current)
+    target = _draw_scale(measured, measured, source_voltage, by_current)
+    with np.errstate(invalid="ignore"):
+        # A reading whose prediction does not move with the draw cannot tell it.
+        flat = ~(rising[-1] - rising[0] > DRAW_TOLERANCE)
+        reached = rising >= target
+    never = ~reached.any(axis=0) & ~flat
+    below_all = reached[0] & ~flat
+    interior = ~never & ~below_all & ~flat
+    with np.errstate(invalid="ignore"):
+        offset = np.where(interior, rising - target, 0.0)
+    index = np.clip(reached.argmax(axis=0), 1, log_grid.size - 1)
+    columns = np.arange(measured.size)
+    lower = np.where(interior, log_grid[index - 1], log_grid[0])
+    upper = np.where(interior, log_grid[index], log_grid[0])
+    f_lower = offset[index - 1, columns]
+    f_upper = offset[index, columns]
+    # First estimate: the inverse quadratic through the grid points around each bracket.
+    middle = np.clip(index, 1, log_grid.size - 2)
+    nodes = np.stack([middle - 1, middle, middle + 1])
+    values = offset[nodes, columns]
+    logs = log_grid[nodes]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        start = sum(logs[i] * np.prod([values[j] / (values[j] - values[i])
+                                       for j in range(3) if j != i], axis=0)
+                    for i in range(3))
+
+    def residual(log_draw):
+        load_voltage, current = _predict_meters(lamp, load, np.exp(log_draw), source_voltage,
+                                                bypassed, source_resistance, frequency)
+        scale = _draw_scale(load_voltage, current, source_voltage, by_current)
+        with np.errstate(invalid="ignore"):
+            return np.where(interior, scale - target, 0.0)
+
+    log_draw, _ = bracketed_root(residual, lower, upper, f_lower, f_upper, DRAW_TOLERANCE,
+                                 start=np.where(interior, start, lower))
+    draw = np.where(never, np.inf, np.exp(log_draw))
+    draw = np.where(below_all, 0.0, draw)
+    return np.where(flat, np.nan, draw)
+
+
+def _volts(value):
+    return f"{value:.3g} V"
+
+
+def _amps(value):
+    return f"{value:.2g} A"
+
+
+def _draw(value):
+    if np.isinf(value):
+        return f"more than {DRAW_SEARCH_RANGE[1]:g}x declared (a dead short)"
+    if value == 0:
+        return f"nil (below {DRAW_SEARCH_RANGE[0]:g}x declared)"
+    if np.isnan(value):
+        return "not measurable from this reading"
+    return f"{value:.2g}x declared"
+
+
+def _check_fraction(value, name, low, high):
+    number = float(value)
+    if not low <= number < high:
+        raise ValueError(f"{name} must be at least {low:g} and below {high:g} (got {value!r})")
+    return number
+
+
+def _check_positive(value, name, unit):
+    number = float(value)
+    if not np.isfinite(number) or number <= 0:
+        raise ValueError(f"{name} must be positive and finite (got {value!r} {unit})")
+    return number
+
+
+def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0,
+          frequency=DEFAULT_FREQUENCY, lamp_power_tolerance=LAMP_POWER_TOLERANCE,
+          load_tolerance=LOAD_TOLERANCE, meter_relative_accuracy=METER_RELATIVE_ACCURACY,
+          meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
+          current_relative_accuracy=CURRENT_RELATIVE_ACCURACY,
+          current_absolute_accuracy=CURRENT_ABSOLUTE_ACCURACY,
+          fail_draw_multiple=FAIL_DRAW_MULTIPLE, open_draw_multiple=OPEN_DRAW_MULTIPLE,
+          full_source_fraction=FULL_SOURCE_FRACTION,
+          min_sensitivity_ratio=MIN_SENSITIVITY_RATIO):
+    """Judge a power-up test's readings against a healthy unit of the declared load.
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The series lamp used for the test.
+    load : Load
+        The declared load: what the unit should draw as configured on the bench.
+    readings : sequence of Reading
+        The test's readings, in the order taken.
+    nominal_source_voltage : float
+        The rig's nominal mains [V] (e.g. 120 or 230).
+    source_resistance : float, default 0.0
+        Resistance of the rig's windings [ohm].
+    frequency : float, default 60.0
+        Source frequency [Hz].
+    lamp_power_tolerance : float, default ``LAMP_POWER_TOLERANCE`` (0.10)
+        Spread of the lamp's rated power [fraction].
+    load_tolerance : float, default ``LOAD_TOLERANCE`` (0.20)
+        Uncertainty of the declared load [fraction].
+    meter_relative_accuracy, meter_absolute_accuracy : float
+        Voltmeter uncertainty, ``relative * reading + absolute`` [fraction, V];
+        defaults ``METER_RELATIVE_ACCURACY`` (0.01) and ``METER_ABSOLUTE_ACCURACY``
+        (0.5 V).
+    current_relative_accuracy, current_absolute_accuracy : float
+        Ammeter uncertainty [fraction, A]; defaults 0.02 and 0.005 A.
+    fail_draw_multiple : float, default ``FAIL_DRAW_MULTIPLE`` (2.0)
+        Inferred draw at or above which an out-of-band reading fails.
+    open_draw_multiple : float, default ``OPEN_DRAW_MULTIPLE`` (0.2)
+        Inferred draw at or below which an out-of-band reading fails as open.
+    full_source_fraction : float, default ``FULL_SOURCE_FRACTION`` (0.9)
+        Fraction of nominal mains a pass must reach (at least 0.9).
+    min_sensitivity_ratio : float, default ``MIN_SENSITIVITY_RATIO`` (1.0)
+        A reading tells a fault when a doubling of draw moves it by at least
+        this multiple of the meter's uncertainty.
+
+    Returns
+    -------
+    Verdict
+
+    Notes
+    -----
+    For every reading the band is the healthy prediction at its corners: the
+    lowest unit volts come from the smallest lamp (power ``1 - t_lamp``), the
+    heaviest load (``1 + t_load``) and the source reading's low limit; the
+    highest from the opposite corner; each end is widened by the meter's
+    uncertainty. The model is monotone in each, so the corners bound the band.
+    The inferred draw is the factor ``k`` for which
+    ``solve_series(lamp, load.scaled(k), source_voltage)`` reproduces the
+    measured current, or the unit volts where no current was measured
+    (bypassed readings: the unit straight on the source through the rig). It
+    is found through the load model, never by subtracting RMS volts.
+    Sensitivity is the change of unit volts from ``k = 1`` to ``k = 2``.
+    """
+    check_load(load)
+    source_resistance = check_source_resistance(source_resistance)
+    frequency = check_frequency(frequency)
+    nominal = _check_positive(nominal_source_voltage, "nominal_source_voltage", "V")
+    lamp_tolerance = _check_fraction(lamp_power_tolerance, "lamp_power_tolerance", 0.0, 1.0)
+    load_tolerance = _check_fraction(load_tolerance, "load_tolerance", 0.0, 1.0)
+    meter = (_check_fraction(meter_relative_accuracy, "meter_relative_accuracy", 0.0, 1.0),
+             _check_fraction(meter_absolute_accuracy, "meter_absolute_accuracy", 0.0, np.inf))
+    ammeter = (_check_fraction(current_relative_accuracy, "current_relative_accuracy", 0.0, 1.0),
+               _check_fraction(current_absolute_accuracy, "current_absolute_accuracy", 0.0,
+                               np.inf))
+    fail_multiple = _check_fraction(fail_draw_multiple, "fail_draw_multiple",
+                                    1.0 + load_tolerance, np.inf)
+    open_multiple = _check_fraction(open_draw_multiple, "open_draw_multiple", 0.0,
+                                    1.0 - load_tolerance)
+    full_fraction = float(full_source_fraction)
+    if not FULL_SOURCE_FRACTION <= full_fraction <= 1.0:
+        raise ValueError(f"full_source_fraction must lie between {FULL_SOURCE_FRACTION:g} and 1 "
+                         f"(got {full_source_fraction!r}): a pass needs at least "
+                         f"{100 * FULL_SOURCE_FRACTION:.0f} % of nominal mains")
+    sensitivity_ratio = _check_positive(min_sensitivity_ratio, "min_sensitivity_ratio", "")
+    readings = tuple(readings)
+    if not readings:
+        raise ValueError("readings must hold at least one Reading")
+    for position, reading in enumerate(readings):
+        if not isinstance(reading, Reading):
+            raise ValueError(f"readings[{position}] must be a Reading "
+                             f"(got {type(reading).__name__})")
+
+    source = np.array([reading.source_voltage for reading in readings])
+    unit_volts = np.array([reading.load_voltage for reading in readings])
+    by_current = np.array([reading.current is not None for reading in readings])
+    amps = np.array([np.nan if reading.current is None else reading.current
+                     for reading in readings])
+    bypassed = np.array([reading.lamp_bypassed for reading in readings])
+    n = len(readings)
+    measured = np.where(by_current, amps, unit_volts)
+    source_span = _uncertainty(source, *meter)
+    source_low = np.maximum(source - source_span, 0.0)
+    source_high = source + source_span
+    measured_span = np.where(by_current, _uncertainty(measured, *ammeter),
+                             _uncertainty(measured, *meter))
+    # Each reading three times: as read, then moved by the meters' uncertainty towards the
+    # least draw (unit volts up or current down, and the source reading down or up), then
+    # towards the most. Solved together, the three cost about as much as one.
+    source_3 = np.concatenate([source, np.where(by_current, source_high, source_low),
+                               np.where(by_current, source_low, source_high)])
+    measured_3 = np.concatenate([
+        measured,
+        np.maximum(measured + np.where(by_current, -measured_span, measured_span), 0.0),
+        np.maximum(measured - np.where(by_current, -measured_span, measured_span), 0.0)])
+    by_current_3 = np.tile(by_current, 3)
+    bypassed_3 = np.tile(bypassed, 3)
+
+    # Healthy unit, doubled draw and the search grid of draws, all in one solve.
+    draws = np.concatenate([[1.0, 2.0], np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS)])
+    volts_k, amps_k, glow_k = _predict(lamp, load, draws[:, None], source_3, bypassed_3,
+                                       source_resistance, frequency)
+    draw_3 = _infer_draw(lamp, load, source_3, measured_3, by_current_3, bypassed_3,
+                         volts_k[2:], amps_k[2:], source_resistance, frequency)
+    draw, least_draw, most_draw = draw_3[:n], draw_3[n:2 * n], draw_3[2 * n:]
+    volts_k, amps_k, glow_k = volts_k[:, :n], amps_k[:, :n], glow_k[:, :n]
+
+    # Band corners: source reading low then high, heavy then light load, for each lamp limit.
+    corners_source = np.concatenate([source_low, source_high])
+    corners_bypassed = np.concatenate([bypassed, bypassed])
+    heavy_light = np.array([[1.0 + load_tolerance], [1.0 - load_tolerance]])
+    corners = {}
+    for name, factor in (("small", 1.0 - lamp_tolerance), ("large", 1.0 + lamp_tolerance)):
+        corners[name] = _predict(_SpreadLamp(lamp, factor), load, heavy_light, corners_source,
+                                 corners_bypassed, source_resistance, frequency)
+    low, high = slice(0, n), slice(n, 2 * n)
+    volts_low = corners["small"][0][0, low]
+    volts_high = corners["large"][0][1, high]
+    current_low = corners["small"][1][1, low]
+    current_high = corners["large"][1][0, high]
+    glow_brightest = corners["small"][2][0, high]
+    glow_dimmest = corners["large"][2][1, low]
+    volts_low = np.maximum(volts_low - _uncertainty(volts_low, *meter), 0.0)
+    volts_high = volts_high + _uncertainty(volts_high, *meter)
+    current_low = np.maximum(current_low - _uncertainty(current_low, *ammeter), 0.0)
+    current_high = current_high + _uncertainty(current_high, *ammeter)
+
+    sensitivity = volts_k[0] - volts_k[1]
+    current_sensitivity = amps_k[1] - amps_k[0]
+    uncertainty = np.where(by_current, _uncertainty(amps_k[0], *ammeter),
+                           _uncertainty(volts_k[0], *meter))
+    sensitive = np.where(by_current, current_sensitivity, sensitivity) >= (
+        sensitivity_ratio * uncertainty)
+
+    band_low = np.where(by_current, current_low, volts_low)
+    band_high = np.where(by_current, current_high, volts_high)
+    heavier = np.where(by_current, measured > band_high, measured < band_low)
+    lighter = np.where(by_current, measured < band_low, measured > band_high)
+    status = np.full(n, IN_BAND, dtype=object)
+    status[heavier] = DRAW_ABOVE_BAND
+    # A fault must show even with the meters' uncertainty taken in the unit's favour.
+    status[heavier & (least_draw >= fail_multiple)] = DRAW_HIGH
+    status[lighter] = DRAW_BELOW_BAND
+    status[lighter & (most_draw <= open_multiple)] = DRAW_NEAR_ZERO
+
+    judged = tuple(
+        ReadingJudgement(
+            index=i, status=status[i], lamp_bypassed=bool(bypassed[i]),
+            measured="current" if by_current[i] else "load_voltage",
+            predicted_load_voltage=float(volts_k[0, i]),
+            load_voltage_low=float(volts_low[i]), load_voltage_high=float(volts_high[i]),
+            predicted_current=float(amps_k[0, i]),
+            current_low=float(current_low[i]), current_high=float(current_high[i]),
+            predicted_glow=str(glow_k[0, i]), glow_dimmest=str(glow_dimmest[i]),
+            glow_brightest=str(glow_brightest[i]), inferred_draw=float(draw[i]),
+            inferred_draw_low=float(least_draw[i]), inferred_draw_high=float(most_draw[i]),
+            sensitivity=float(sensitivity[i]), current_sensitivity=float(current_sensitivity[i]),
+            meter_uncertainty=float(uncertainty[i]), sensitive=bool(sensitive[i]),
+        )
+        for i in range(n)
+    )
+    declared = f"a healthy {float(np.max(load.rated_power)):.3g} W unit"
+    reasons = _draw_reasons(readings, judged, declared)
+    reasons += _glow_reasons(readings, judged, load, declared)
+    if not any(reason.outcome in ("fail", "marginal") for reason in reasons):
+        reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
+    reasons.sort(key=lambda reason: -OUTCOME_SEVERITY.index(reason.outcome))
+    settings = {
+        "nominal_source_voltage": nominal, "source_resistance": source_resistance,
+        "frequency": frequency, "lamp_power_tolerance": lamp_tolerance,
+        "load_tolerance": load_tolerance, "meter_relative_accuracy": meter[0],
+        "meter_absolute_accuracy": meter[1], "current_relative_accuracy": ammeter[0],
+        "current_absolute_accuracy": ammeter[1], "fail_draw_multiple": fail_multiple,
+        "open_draw_multiple": open_multiple, "full_source_fraction": full_fraction,
+        "min_sensitivity_ratio": sensitivity_ratio,
+    }
+    return Verdict(outcome=reasons[0].outcome, reasons=tuple(reasons), readings=judged,
+                   settings=settings)
+
+
+def _reading_sentence(reading, judged, declared):
+    where = f"at {_volts(reading.source_voltage)} source"
+    if reading.lamp_bypassed:
+        where += " with the lamp bypassed"
+    if judged.measured == "current":
+        seen = f"the unit drew {_amps(reading.current)}"
+        band = (f"{declared} would draw {judged.current_low:.2g}-"
+                f"{_amps(judged.current_high)}")
+    else:
+        seen = f"the unit read {_volts(reading.load_voltage)}"
+        band = (f"{declared} would read {judged.load_voltage_low:.3g}-"
+                f"{_volts(judged.load_voltage_high)}")
+    sentence = f"{where} {seen}; {band}; inferred draw {_draw(judged.inferred_draw)}"
+    low, high = judged.inferred_draw_low, judged.inferred_draw_high
+    if np.isfinite(low) and np.isfinite(high) and high > 0:
+        sentence += f" ({low:.2g}-{high:.2g}x within the meters' uncertainty)"
+    return sentence
+
+
+def _draw_reasons(readings, judged, declared):
+    advice = {
+        DRAW_HIGH: "the unit draws far more than declared: look for a short or a failed part",
+        DRAW_ABOVE_BAND: "the unit draws more than declared",
+        DRAW_BELOW_BAND: "the unit draws less than declared",
+        DRAW_NEAR_ZERO: ("the unit draws next to nothing: look for an open fuse, switch or "
+                         "winding"),
+    }
+    reasons = []
+    for code, text in advice.items():
+        hits = [item for item in judged if item.status == code]
+        if not hits:
+            continue
+        # Quote the most telling reading: the one whose draw is furthest off even with the
+        # meters' uncertainty in the unit's favour.
+        if code in (DRAW_HIGH, DRAW_ABOVE_BAND):
+            worst = max(hits, key=lambda item: np.nan_to_num(item.inferred_draw_low))
+        else:
+            worst = min(hits, key=lambda item: np.nan_to_num(item.inferred_draw_high,
+                                                             nan=np.inf))
+        if code == DRAW_BELOW_BAND and worst.inferred_draw_low <= OPEN_DRAW_MULTIPLE:
+            text += (", perhaps nothing at all: look for an open fuse, switch or winding, or "
+                     "measure the current to tell")
+        more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
+        sentence = _reading_sentence(readings[worst.index], worst, declared)
+        reasons.append(Reason(code, f"{sentence}: {text}{more}", worst.index))
+    return reasons
+
+
+def _glow_reasons(readings, judged, load, declared):
+    reasons = []
+    found = {}
+    bright = GLOW_CLASSES.index("bright")
+    faint = GLOW_CLASSES.index("faint")
+    for reading, item in zip(readings, judged, strict=True):
+        if reading.lamp_bypassed:
+            continue
+        where = f"at {_volts(reading.source_voltage)} source"
+        if reading.behaviour_seen == "cycling" and not load.may_cycle:
+            found.setdefault(GLOW_CYCLING_UNEXPECTED, Reason(
+                GLOW_CYCLING_UNEXPECTED,
+                f"{where} the lamp's glow cycled; the declared load "
+                f"({load.describe()['summary']}) holds a steady glow: look for an intermittent "
+                "connection, a thermal cut-out, or a unit that is not what was declared",
+                item.index))
+        if reading.glow_seen is None:
+            continue
+        seen = GLOW_CLASSES.index(reading.glow_seen)
+        brightest = GLOW_CLASSES.index(item.glow_brightest)
+        dimmest = GLOW_CLASSES.index(item.glow_dimmest)
+        expected = (f"{declared} keeps it {item.glow_dimmest}" if dimmest == brightest else
+                    f"{declared} keeps it {item.glow_dimmest} to {item.glow_brightest}")
+        sentence = f"{where} the lamp was seen {reading.glow_seen}; {expected}"
+        if seen == bright and brightest <= faint:
+            found.setdefault(GLOW_BRIGHT_UNEXPECTED, Reason(
+                GLOW_BRIGHT_UNEXPECTED, f"{sentence}: the unit draws far more than declared",
+                item.index))
+        elif seen >= brightest + 2:
+            found.setdefault(GLOW_BRIGHTER_THAN_PREDICTED, Reason(
+                GLOW_BRIGHTER_THAN_PREDICTED, f"{sentence}: the unit may draw more than "
+                "declared", item.index))
+        elif seen <= dimmest - 2:
+            found.setdefault(GLOW_DIMMER_THAN_PREDICTED, Reason(
+                GLOW_DIMMER_THAN_PREDICTED, f"{sentence}: the unit may draw less than "
+                "declared, or the lamp is not the one declared", item.index))
+    reasons.extend(found.values())
+    return reasons
+
+
+def _completion_reason(readings, judged, nominal, full_fraction):
+    source = np.array([reading.source_voltage for reading in readings])
+    top = int(np.argmax(source))
+    full = full_fraction * nominal
+    if source[top] < full:
+        return Reason(
+            SOURCE_NOT_FULL,
+            f"the highest source reading was {_volts(source[top])}, "
+            f"{100 * source[top] / nominal:.0f} % of the {_volts(nominal)} nominal; a pass "
+            f"needs at least {100 * full_fraction:.0f} % ({_volts(full)})", top)
+    at_full = [item for item in judged if readings[item.index].source_voltage >= full]
+    if not any(item.sensitive for item in at_full):
+        through_lamp = [item for item in at_full if not item.lamp_bypassed]
+        if not through_lamp:
+            item = at_full[0]
+            return Reason(
+                BYPASS_WITHOUT_CURRENT,
+                f"at {_volts(readings[item.index].source_voltage)} source the lamp was "
+                f"bypassed and no current was measured; the unit's volts would move by only "
+                f"{_volts(item.sensitivity)} for a doubling of draw, within the meter's "
+                f"{_volts(item.meter_uncertainty)}: measure the current", item.index)
+        item = max(through_lamp, key=lambda item: item.sensitivity / item.meter_uncertainty)
+        if item.measured == "current":
+            change = (f"its current by only {_amps(item.current_sensitivity)}, within the "
+                      f"meter's {_amps(item.meter_uncertainty)}")
+        else:
+            change = (f"its volts by only {_volts(item.sensitivity)}, within the meter's "
+                      f"{_volts(item.meter_uncertainty)}")
+        return Reason(
+            LAMP_TOO_LARGE,
+            f"at {_volts(readings[item.index].source_voltage)} source a doubling of the "
+            f"unit's draw would move {change}: the lamp is too large to tell a fault; use a "
+            "smaller lamp", item.index)
+    item = max(at_full, key=lambda item: readings[item.index].source_voltage)
+    reading = readings[item.index]
+    return Reason(
+        ALL_IN_BAND,
+        f"all {len(readings)} readings were in band, up to {_volts(reading.source_voltage)} "
+        f"source ({100 * reading.source_voltage / nominal:.0f} % of the {_volts(nominal)} "
+        f"nominal); there a doubling of draw would move the unit by "
+        f"{_volts(item.sensitivity)}", item.index)
