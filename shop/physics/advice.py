@@ -113,20 +113,31 @@ def _check_non_negative(value, name):
 
 def _full_source_figures(lamp, load, source, source_resistance, frequency):
     """Fault current [A], healthy and doubled unit volts [V] and the lamp's glow at full source."""
-    _, fault = unit_operating_point(lamp, ResistiveLoad(0.0), source, source_resistance,
-                                    frequency)
-    result = solve_series(lamp, load.scaled(np.array([1.0, 2.0])), source, source_resistance,
-                          frequency)
-    return (float(fault), float(result.load_voltage[0]), float(result.load_voltage[1]),
-            str(result.glow[0]))
+    _, fault = unit_operating_point(lamp, ResistiveLoad(0.0), source, source_resistance, frequency)
+    result = solve_series(
+        lamp, load.scaled(np.array([1.0, 2.0])), source, source_resistance, frequency
+    )
+    return (
+        float(fault),
+        float(result.load_voltage[0]),
+        float(result.load_voltage[1]),
+        str(result.glow[0]),
+    )
 
 
-def advise_lamp(load, lamps, source_voltage, *, source_resistance=0.0,
-                frequency=DEFAULT_FREQUENCY, labels=None,
-                meter_relative_accuracy=METER_RELATIVE_ACCURACY,
-                meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
-                min_load_fraction=ADVICE_MIN_LOAD_FRACTION,
-                min_sensitivity_ratio=ADVICE_MIN_SENSITIVITY_RATIO):
+def advise_lamp(
+    load,
+    lamps,
+    source_voltage,
+    *,
+    source_resistance=0.0,
+    frequency=DEFAULT_FREQUENCY,
+    labels=None,
+    meter_relative_accuracy=METER_RELATIVE_ACCURACY,
+    meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
+    min_load_fraction=ADVICE_MIN_LOAD_FRACTION,
+    min_sensitivity_ratio=ADVICE_MIN_SENSITIVITY_RATIO,
+):
     """Rank the rig's lamps (and banks) for powering up a unit of the declared load.
 
     Parameters
@@ -172,10 +183,12 @@ def advise_lamp(load, lamps, source_voltage, *, source_resistance=0.0,
     source = float(source)
     source_resistance = check_source_resistance(source_resistance)
     frequency = check_frequency(frequency)
-    meter_relative_accuracy = _check_non_negative(meter_relative_accuracy,
-                                                  "meter_relative_accuracy")
-    meter_absolute_accuracy = _check_non_negative(meter_absolute_accuracy,
-                                                  "meter_absolute_accuracy")
+    meter_relative_accuracy = _check_non_negative(
+        meter_relative_accuracy, "meter_relative_accuracy"
+    )
+    meter_absolute_accuracy = _check_non_negative(
+        meter_absolute_accuracy, "meter_absolute_accuracy"
+    )
     min_load_fraction = _check_non_negative(min_load_fraction, "min_load_fraction")
     min_sensitivity_ratio = _check_non_negative(min_sensitivity_ratio, "min_sensitivity_ratio")
     lamps = list(lamps)
@@ -183,16 +196,16 @@ def advise_lamp(load, lamps, source_voltage, *, source_resistance=0.0,
         raise ValueError("lamps must hold at least one candidate lamp or bank")
     labels = [lamp_label(lamp) for lamp in lamps] if labels is None else list(labels)
     if len(labels) != len(lamps):
-        raise ValueError(f"labels must name every lamp ({len(lamps)} lamps, {len(labels)} "
-                         "labels)")
+        raise ValueError(f"labels must name every lamp ({len(lamps)} lamps, {len(labels)} labels)")
     declared = f"{float(np.max(load.rated_power)):.3g} W"
 
     entries = []
     for index, (lamp, label) in enumerate(zip(lamps, labels, strict=True)):
         under_rated = lamp.rated_voltage < ADVICE_MIN_RATED_VOLTAGE_FRACTION * source
         try:
-            fault, volts, doubled, glow = _full_source_figures(lamp, load, source,
-                                                               source_resistance, frequency)
+            fault, volts, doubled, glow = _full_source_figures(
+                lamp, load, source, source_resistance, frequency
+            )
         except ValueError:
             if not under_rated:
                 raise
@@ -204,20 +217,26 @@ def advise_lamp(load, lamps, source_voltage, *, source_resistance=0.0,
         fraction = volts / source
         if under_rated:
             suitability = UNDER_RATED
-            verdict = (f"rated {lamp.rated_voltage:g} V, below the {source:g} V source: a dead "
-                       "short would put nearly the whole source across it; use lamps rated "
-                       "for the mains")
+            verdict = (
+                f"rated {lamp.rated_voltage:g} V, below the {source:g} V source: a dead "
+                "short would put nearly the whole source across it; use lamps rated "
+                "for the mains"
+            )
             key = fault
         elif fraction < min_load_fraction:
             suitability = TOO_SMALL
-            verdict = (f"too small: below the {100 * min_load_fraction:.0f} % a healthy unit "
-                       "needs, it may look faulty; choose a larger lamp")
+            verdict = (
+                f"too small: below the {100 * min_load_fraction:.0f} % a healthy unit "
+                "needs, it may look faulty; choose a larger lamp"
+            )
             key = -fraction
         elif sensitivity < min_sensitivity_ratio * uncertainty:
             suitability = TOO_LARGE
-            verdict = (f"too large: under {min_sensitivity_ratio:g}x the meter's "
-                       f"{uncertainty:.2g} V, a unit drawing twice its load would look healthy; "
-                       "choose a smaller lamp")
+            verdict = (
+                f"too large: under {min_sensitivity_ratio:g}x the meter's "
+                f"{uncertainty:.2g} V, a unit drawing twice its load would look healthy; "
+                "choose a smaller lamp"
+            )
             key = -sensitivity / uncertainty
         else:
             suitability = SUITABLE
@@ -229,16 +248,36 @@ def advise_lamp(load, lamps, source_voltage, *, source_resistance=0.0,
             f"source) and a doubling of its draw would move that by {sensitivity:.2g} V; "
             f"{verdict}"
         )
-        entries.append((SUITABILITIES.index(suitability), key, index, dict(
-            index=index, label=label, suitability=suitability, fault_current=fault,
-            load_voltage=volts, load_fraction=fraction, sensitivity=sensitivity,
-            meter_uncertainty=uncertainty, lamp_glow=glow, reason=reason)))
+        entries.append(
+            (
+                SUITABILITIES.index(suitability),
+                key,
+                index,
+                dict(
+                    index=index,
+                    label=label,
+                    suitability=suitability,
+                    fault_current=fault,
+                    load_voltage=volts,
+                    load_fraction=fraction,
+                    sensitivity=sensitivity,
+                    meter_uncertainty=uncertainty,
+                    lamp_glow=glow,
+                    reason=reason,
+                ),
+            )
+        )
     entries.sort(key=lambda entry: entry[:3])
-    advice = [LampAdvice(rank=rank, **fields)
-              for rank, (*_, fields) in enumerate(entries, start=1)]
+    advice = [LampAdvice(rank=rank, **fields) for rank, (*_, fields) in enumerate(entries, start=1)]
     if advice[0].suitability == SUITABLE:
         best = advice[0]
-        advice[0] = LampAdvice(**{**best.__dict__, "reason": (
-            f"{best.reason}: the lowest fault current of the lamps that let a healthy unit "
-            "run and can still tell a fault")})
+        advice[0] = LampAdvice(
+            **{
+                **best.__dict__,
+                "reason": (
+                    f"{best.reason}: the lowest fault current of the lamps that let a healthy unit "
+                    "run and can still tell a fault"
+                ),
+            }
+        )
     return advice

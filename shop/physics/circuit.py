@@ -78,9 +78,7 @@ def check_source_resistance(value):
     try:
         resistance = float(value)
     except (TypeError, ValueError) as error:
-        raise ValueError(
-            f"source_resistance must be one number of ohms (got {value!r})"
-        ) from error
+        raise ValueError(f"source_resistance must be one number of ohms (got {value!r})") from error
     if not np.isfinite(resistance):
         raise ValueError(f"source_resistance must be finite (got {resistance})")
     if resistance < 0:
@@ -108,8 +106,16 @@ def check_load(load):
         )
 
 
-def bracketed_root(function, lower, upper, f_lower, f_upper, tolerance, start=None,
-                   max_iterations=SOLVER_MAX_ITERATIONS):
+def bracketed_root(
+    function,
+    lower,
+    upper,
+    f_lower,
+    f_upper,
+    tolerance,
+    start=None,
+    max_iterations=SOLVER_MAX_ITERATIONS,
+):
     """Roots of a vectorised function, each inside its own sign-changing bracket.
 
     Parameters
@@ -251,8 +257,11 @@ def _series_solution(lamp, load, target, source_resistance, frequency):
     grid_impedance = np.broadcast_to(grid_impedance, (grid_voltage.size,) + load_shape)
     open_ = _open_columns(grid_impedance[1:])
     with np.errstate(invalid="ignore"):
-        required = np.abs(grid_voltage.reshape(column) + grid_current.reshape(column)
-                          * (source_resistance + np.where(open_, 0.0, grid_impedance)))
+        required = np.abs(
+            grid_voltage.reshape(column)
+            + grid_current.reshape(column)
+            * (source_resistance + np.where(open_, 0.0, grid_impedance))
+        )
     required[0] = 0.0
     if not (np.diff(required, axis=0) > 0).all():
         raise ValueError(
@@ -264,7 +273,8 @@ def _series_solution(lamp, load, target, source_resistance, frequency):
     required = required.reshape(grid_voltage.size, -1)
     open_ = np.broadcast_to(open_.reshape(load_shape), shape).ravel()
     column_of_point = np.broadcast_to(
-        np.arange(required.shape[1]).reshape(load_shape), shape).ravel()
+        np.arange(required.shape[1]).reshape(load_shape), shape
+    ).ravel()
     flat_target = np.broadcast_to(target, shape).ravel()
     largest = required[-1, column_of_point]
     beyond = (flat_target > largest) & ~open_
@@ -294,7 +304,8 @@ def _series_solution(lamp, load, target, source_resistance, frequency):
         return np.where(open_, 0.0, needed - flat_target)
 
     lamp_voltage, remainder = bracketed_root(
-        residual, lower, upper, f_lower, f_upper, _solver_tolerance(flat_target))
+        residual, lower, upper, f_lower, f_upper, _solver_tolerance(flat_target)
+    )
     _check_residual(remainder, flat_target)
     # The last evaluation saw every point at its root unless no step was needed at all.
     if latest and np.array_equal(latest["voltage"], lamp_voltage):
@@ -338,8 +349,8 @@ def _bypassed_solution(load, target, source_resistance, frequency):
     else:
         raise ValueError("load has no operating point straight on this source")
     current, remainder = bracketed_root(
-        residual, np.zeros_like(upper), upper, -flat_target, f_upper,
-        _solver_tolerance(flat_target))
+        residual, np.zeros_like(upper), upper, -flat_target, f_upper, _solver_tolerance(flat_target)
+    )
     _check_residual(remainder, flat_target)
     open_ = open_.reshape(shape)
     return np.where(open_, 0.0, current.reshape(shape)), open_
@@ -347,8 +358,11 @@ def _bypassed_solution(load, target, source_resistance, frequency):
 
 def _checked(load, source_voltage, source_resistance, frequency):
     check_load(load)
-    return (check_voltage(source_voltage, "source_voltage"),
-            check_source_resistance(source_resistance), check_frequency(frequency))
+    return (
+        check_voltage(source_voltage, "source_voltage"),
+        check_source_resistance(source_resistance),
+        check_frequency(frequency),
+    )
 
 
 def _result(lamp, load, target, lamp_voltage, current, frequency, open_):
@@ -418,15 +432,16 @@ def solve_series(lamp, load, source_voltage, source_resistance=0.0, frequency=DE
     never as RMS numbers. A unit whose impedance is infinite is open: no
     current flows and it sees the whole source voltage.
     """
-    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
-                                                    frequency)
-    lamp_voltage, current, open_ = _series_solution(lamp, load, target, source_resistance,
-                                                    frequency)
+    target, source_resistance, frequency = _checked(
+        load, source_voltage, source_resistance, frequency
+    )
+    lamp_voltage, current, open_ = _series_solution(
+        lamp, load, target, source_resistance, frequency
+    )
     return _result(lamp, load, target, lamp_voltage, current, frequency, open_)
 
 
-def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0,
-                   frequency=DEFAULT_FREQUENCY):
+def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=DEFAULT_FREQUENCY):
     """Operating point with the lamp bypassed: the unit straight on the source through the rig.
 
     Parameters
@@ -454,14 +469,22 @@ def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0,
     :math:`V_s = I \\, |R_s + Z(I)|`, solved for :math:`I` by Illinois false
     position in a bracket grown from :math:`V_s / |R_s + Z(0)|` by doubling.
     """
-    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
-                                                    frequency)
+    target, source_resistance, frequency = _checked(
+        load, source_voltage, source_resistance, frequency
+    )
     current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
     return _result(lamp, load, target, np.zeros(current.shape), current, frequency, open_)
 
 
-def unit_operating_point(lamp, load, source_voltage, source_resistance=0.0,
-                         frequency=DEFAULT_FREQUENCY, *, lamp_bypassed=False):
+def unit_operating_point(
+    lamp,
+    load,
+    source_voltage,
+    source_resistance=0.0,
+    frequency=DEFAULT_FREQUENCY,
+    *,
+    lamp_bypassed=False,
+):
     """Unit volts and current alone: the operating point without the lamp's glow.
 
     The same solution as :func:`solve_series` (or :func:`solve_bypassed` when
@@ -489,12 +512,14 @@ def unit_operating_point(lamp, load, source_voltage, source_resistance=0.0,
         RMS unit volts [V] and current [A], shaped like ``source_voltage``
         broadcast against the load's parameters.
     """
-    target, source_resistance, frequency = _checked(load, source_voltage, source_resistance,
-                                                    frequency)
+    target, source_resistance, frequency = _checked(
+        load, source_voltage, source_resistance, frequency
+    )
     if lamp_bypassed:
         current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
     else:
         _, current, open_ = _series_solution(lamp, load, target, source_resistance, frequency)
-    load_voltage, _ = _unit_side(load, current, np.broadcast_to(target, current.shape),
-                                 frequency, open_)
+    load_voltage, _ = _unit_side(
+        load, current, np.broadcast_to(target, current.shape), frequency, open_
+    )
     return load_voltage, current

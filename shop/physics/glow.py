@@ -76,8 +76,9 @@ def _tristimulus(temperature):
     x_min = x[..., -1:]
     # Planck's law written as exp(-x) / (1 - exp(-x)), shifted by the smallest x so the
     # largest term is of order one at any temperature.
-    spectrum = (FIRST_RADIATION_CONSTANT_RADIANCE * wavelength**-5 * np.exp(-(x - x_min))
-                / -np.expm1(-x))
+    spectrum = (
+        FIRST_RADIATION_CONSTANT_RADIANCE * wavelength**-5 * np.exp(-(x - x_min)) / -np.expm1(-x)
+    )
     return spectrum @ cmfs * spacing, x_min[..., 0]
 
 
@@ -176,8 +177,12 @@ def glow_class(temperature, rated_temperature):
     values, rated = np.broadcast_arrays(values, rated)
     relative = luminance(values) / luminance(rated)
     index = np.select(
-        [values < DRAPER_POINT, relative < FAINT_LIMIT, relative < DULL_LIMIT,
-         relative < MEDIUM_LIMIT],
+        [
+            values < DRAPER_POINT,
+            relative < FAINT_LIMIT,
+            relative < DULL_LIMIT,
+            relative < MEDIUM_LIMIT,
+        ],
         [0, 1, 2, 3],
         default=4,
     )

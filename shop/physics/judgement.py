@@ -191,18 +191,22 @@ class Reading:
         for name, unit in (("source_voltage", "V"), ("load_voltage", "V")):
             if getattr(self, name) is None:
                 raise ValueError(f"{name} is required (in {unit})")
-            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name,
-                                                                  unit))
-        for name, unit in (("current", "A"), ("seconds_held", "s"),
-                           ("seconds_since_switch_on", "s")):
-            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name,
-                                                                  unit))
+            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name, unit))
+        for name, unit in (
+            ("current", "A"),
+            ("seconds_held", "s"),
+            ("seconds_since_switch_on", "s"),
+        ):
+            object.__setattr__(self, name, _optional_non_negative(getattr(self, name), name, unit))
         if self.glow_seen is not None and self.glow_seen not in GLOW_CLASSES:
-            raise ValueError(f"glow_seen must be one of {', '.join(GLOW_CLASSES)} "
-                             f"(got {self.glow_seen!r})")
+            raise ValueError(
+                f"glow_seen must be one of {', '.join(GLOW_CLASSES)} (got {self.glow_seen!r})"
+            )
         if self.behaviour_seen is not None and self.behaviour_seen not in BEHAVIOURS:
-            raise ValueError(f"behaviour_seen must be one of {', '.join(BEHAVIOURS)} "
-                             f"(got {self.behaviour_seen!r})")
+            raise ValueError(
+                f"behaviour_seen must be one of {', '.join(BEHAVIOURS)} "
+                f"(got {self.behaviour_seen!r})"
+            )
         if not isinstance(self.lamp_bypassed, bool | np.bool_):
             raise ValueError(f"lamp_bypassed must be True or False (got {self.lamp_bypassed!r})")
         object.__setattr__(self, "lamp_bypassed", bool(self.lamp_bypassed))
@@ -358,8 +362,13 @@ def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, fr
     glow = np.empty(shape, dtype=f"<U{max(map(len, GLOW_CLASSES))}")
     for mask, solve in ((~bypassed, solve_series), (bypassed, solve_bypassed)):
         if mask.any():
-            result = solve(lamp, load.scaled(_on_last_axis(factor, mask)), source_voltage[mask],
-                           source_resistance, frequency)
+            result = solve(
+                lamp,
+                load.scaled(_on_last_axis(factor, mask)),
+                source_voltage[mask],
+                source_resistance,
+                frequency,
+            )
             load_voltage[..., mask] = result.load_voltage
             current[..., mask] = result.current
             glow[..., mask] = result.glow
@@ -374,8 +383,13 @@ def _predict_meters(lamp, load, factor, source_voltage, bypassed, source_resista
     for mask in (~bypassed, bypassed):
         if mask.any():
             load_voltage[..., mask], current[..., mask] = unit_operating_point(
-                lamp, load.scaled(_on_last_axis(factor, mask)), source_voltage[mask],
-                source_resistance, frequency, lamp_bypassed=bool(mask is bypassed))
+                lamp,
+                load.scaled(_on_last_axis(factor, mask)),
+                source_voltage[mask],
+                source_resistance,
+                frequency,
+                lamp_bypassed=bool(mask is bypassed),
+            )
     return load_voltage, current
 
 
@@ -397,8 +411,18 @@ def _draw_scale(load_voltage, current, source_voltage, by_current):
     return np.where(by_current, amps, volts)
 
 
-def _infer_draw(lamp, load, source_voltage, measured, by_current, bypassed, grid_voltage,
-                grid_current, source_resistance, frequency):
+def _infer_draw(
+    lamp,
+    load,
+    source_voltage,
+    measured,
+    by_current,
+    bypassed,
+    grid_voltage,
+    grid_current,
+    source_resistance,
+    frequency,
+):
     """The multiple of the declared load that reproduces each reading (vectorised).
 
     The predicted reading is monotone in the draw (unit volts fall, current rises), so each
@@ -429,19 +453,29 @@ def _infer_draw(lamp, load, source_voltage, measured, by_current, bypassed, grid
     values = offset[nodes, columns]
     logs = log_grid[nodes]
     with np.errstate(divide="ignore", invalid="ignore"):
-        start = sum(logs[i] * np.prod([values[j] / (values[j] - values[i])
-                                       for j in range(3) if j != i], axis=0)
-                    for i in range(3))
+        start = sum(
+            logs[i]
+            * np.prod([values[j] / (values[j] - values[i]) for j in range(3) if j != i], axis=0)
+            for i in range(3)
+        )
 
     def residual(log_draw):
-        load_voltage, current = _predict_meters(lamp, load, np.exp(log_draw), source_voltage,
-                                                bypassed, source_resistance, frequency)
+        load_voltage, current = _predict_meters(
+            lamp, load, np.exp(log_draw), source_voltage, bypassed, source_resistance, frequency
+        )
         scale = _draw_scale(load_voltage, current, source_voltage, by_current)
         with np.errstate(invalid="ignore"):
             return np.where(interior, scale - target, 0.0)
 
-    log_draw, _ = bracketed_root(residual, lower, upper, f_lower, f_upper, DRAW_TOLERANCE,
-                                 start=np.where(interior, start, lower))
+    log_draw, _ = bracketed_root(
+        residual,
+        lower,
+        upper,
+        f_lower,
+        f_upper,
+        DRAW_TOLERANCE,
+        start=np.where(interior, start, lower),
+    )
     draw = np.where(never, np.inf, np.exp(log_draw))
     draw = np.where(below_all, 0.0, draw)
     return np.where(flat, np.nan, draw)
@@ -479,15 +513,25 @@ def _check_positive(value, name, unit):
     return number
 
 
-def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0,
-          frequency=DEFAULT_FREQUENCY, lamp_power_tolerance=LAMP_POWER_TOLERANCE,
-          load_tolerance=LOAD_TOLERANCE, meter_relative_accuracy=METER_RELATIVE_ACCURACY,
-          meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
-          current_relative_accuracy=CURRENT_RELATIVE_ACCURACY,
-          current_absolute_accuracy=CURRENT_ABSOLUTE_ACCURACY,
-          fail_draw_multiple=FAIL_DRAW_MULTIPLE, open_draw_multiple=OPEN_DRAW_MULTIPLE,
-          full_source_fraction=FULL_SOURCE_FRACTION,
-          min_sensitivity_ratio=MIN_SENSITIVITY_RATIO):
+def judge(
+    lamp,
+    load,
+    readings,
+    *,
+    nominal_source_voltage,
+    source_resistance=0.0,
+    frequency=DEFAULT_FREQUENCY,
+    lamp_power_tolerance=LAMP_POWER_TOLERANCE,
+    load_tolerance=LOAD_TOLERANCE,
+    meter_relative_accuracy=METER_RELATIVE_ACCURACY,
+    meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
+    current_relative_accuracy=CURRENT_RELATIVE_ACCURACY,
+    current_absolute_accuracy=CURRENT_ABSOLUTE_ACCURACY,
+    fail_draw_multiple=FAIL_DRAW_MULTIPLE,
+    open_draw_multiple=OPEN_DRAW_MULTIPLE,
+    full_source_fraction=FULL_SOURCE_FRACTION,
+    min_sensitivity_ratio=MIN_SENSITIVITY_RATIO,
+):
     """Judge a power-up test's readings against a healthy unit of the declared load.
 
     Parameters
@@ -548,61 +592,90 @@ def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0
     nominal = _check_positive(nominal_source_voltage, "nominal_source_voltage", "V")
     lamp_tolerance = _check_fraction(lamp_power_tolerance, "lamp_power_tolerance", 0.0, 1.0)
     load_tolerance = _check_fraction(load_tolerance, "load_tolerance", 0.0, 1.0)
-    meter = (_check_fraction(meter_relative_accuracy, "meter_relative_accuracy", 0.0, 1.0),
-             _check_fraction(meter_absolute_accuracy, "meter_absolute_accuracy", 0.0, np.inf))
-    ammeter = (_check_fraction(current_relative_accuracy, "current_relative_accuracy", 0.0, 1.0),
-               _check_fraction(current_absolute_accuracy, "current_absolute_accuracy", 0.0,
-                               np.inf))
-    fail_multiple = _check_fraction(fail_draw_multiple, "fail_draw_multiple",
-                                    1.0 + load_tolerance, np.inf)
-    open_multiple = _check_fraction(open_draw_multiple, "open_draw_multiple", 0.0,
-                                    1.0 - load_tolerance)
+    meter = (
+        _check_fraction(meter_relative_accuracy, "meter_relative_accuracy", 0.0, 1.0),
+        _check_fraction(meter_absolute_accuracy, "meter_absolute_accuracy", 0.0, np.inf),
+    )
+    ammeter = (
+        _check_fraction(current_relative_accuracy, "current_relative_accuracy", 0.0, 1.0),
+        _check_fraction(current_absolute_accuracy, "current_absolute_accuracy", 0.0, np.inf),
+    )
+    fail_multiple = _check_fraction(
+        fail_draw_multiple, "fail_draw_multiple", 1.0 + load_tolerance, np.inf
+    )
+    open_multiple = _check_fraction(
+        open_draw_multiple, "open_draw_multiple", 0.0, 1.0 - load_tolerance
+    )
     full_fraction = float(full_source_fraction)
     if not FULL_SOURCE_FRACTION <= full_fraction <= 1.0:
-        raise ValueError(f"full_source_fraction must lie between {FULL_SOURCE_FRACTION:g} and 1 "
-                         f"(got {full_source_fraction!r}): a pass needs at least "
-                         f"{100 * FULL_SOURCE_FRACTION:.0f} % of nominal mains")
+        raise ValueError(
+            f"full_source_fraction must lie between {FULL_SOURCE_FRACTION:g} and 1 "
+            f"(got {full_source_fraction!r}): a pass needs at least "
+            f"{100 * FULL_SOURCE_FRACTION:.0f} % of nominal mains"
+        )
     sensitivity_ratio = _check_positive(min_sensitivity_ratio, "min_sensitivity_ratio", "")
     readings = tuple(readings)
     if not readings:
         raise ValueError("readings must hold at least one Reading")
     for position, reading in enumerate(readings):
         if not isinstance(reading, Reading):
-            raise ValueError(f"readings[{position}] must be a Reading "
-                             f"(got {type(reading).__name__})")
+            raise ValueError(
+                f"readings[{position}] must be a Reading (got {type(reading).__name__})"
+            )
 
     source = np.array([reading.source_voltage for reading in readings])
     unit_volts = np.array([reading.load_voltage for reading in readings])
     by_current = np.array([reading.current is not None for reading in readings])
-    amps = np.array([np.nan if reading.current is None else reading.current
-                     for reading in readings])
+    amps = np.array(
+        [np.nan if reading.current is None else reading.current for reading in readings]
+    )
     bypassed = np.array([reading.lamp_bypassed for reading in readings])
     n = len(readings)
     measured = np.where(by_current, amps, unit_volts)
     source_span = _uncertainty(source, *meter)
     source_low = np.maximum(source - source_span, 0.0)
     source_high = source + source_span
-    measured_span = np.where(by_current, _uncertainty(measured, *ammeter),
-                             _uncertainty(measured, *meter))
+    measured_span = np.where(
+        by_current, _uncertainty(measured, *ammeter), _uncertainty(measured, *meter)
+    )
     # Each reading three times: as read, then moved by the meters' uncertainty towards the
     # least draw (unit volts up or current down, and the source reading down or up), then
     # towards the most. Solved together, the three cost about as much as one.
-    source_3 = np.concatenate([source, np.where(by_current, source_high, source_low),
-                               np.where(by_current, source_low, source_high)])
-    measured_3 = np.concatenate([
-        measured,
-        np.maximum(measured + np.where(by_current, -measured_span, measured_span), 0.0),
-        np.maximum(measured - np.where(by_current, -measured_span, measured_span), 0.0)])
+    source_3 = np.concatenate(
+        [
+            source,
+            np.where(by_current, source_high, source_low),
+            np.where(by_current, source_low, source_high),
+        ]
+    )
+    measured_3 = np.concatenate(
+        [
+            measured,
+            np.maximum(measured + np.where(by_current, -measured_span, measured_span), 0.0),
+            np.maximum(measured - np.where(by_current, -measured_span, measured_span), 0.0),
+        ]
+    )
     by_current_3 = np.tile(by_current, 3)
     bypassed_3 = np.tile(bypassed, 3)
 
     # Healthy unit, doubled draw and the search grid of draws, all in one solve.
     draws = np.concatenate([[1.0, 2.0], np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS)])
-    volts_k, amps_k, glow_k = _predict(lamp, load, draws[:, None], source_3, bypassed_3,
-                                       source_resistance, frequency)
-    draw_3 = _infer_draw(lamp, load, source_3, measured_3, by_current_3, bypassed_3,
-                         volts_k[2:], amps_k[2:], source_resistance, frequency)
-    draw, least_draw, most_draw = draw_3[:n], draw_3[n:2 * n], draw_3[2 * n:]
+    volts_k, amps_k, glow_k = _predict(
+        lamp, load, draws[:, None], source_3, bypassed_3, source_resistance, frequency
+    )
+    draw_3 = _infer_draw(
+        lamp,
+        load,
+        source_3,
+        measured_3,
+        by_current_3,
+        bypassed_3,
+        volts_k[2:],
+        amps_k[2:],
+        source_resistance,
+        frequency,
+    )
+    draw, least_draw, most_draw = draw_3[:n], draw_3[n : 2 * n], draw_3[2 * n :]
     volts_k, amps_k, glow_k = volts_k[:, :n], amps_k[:, :n], glow_k[:, :n]
 
     # Band corners: source reading low then high, heavy then light load, for each lamp limit.
@@ -611,8 +684,15 @@ def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0
     heavy_light = np.array([[1.0 + load_tolerance], [1.0 - load_tolerance]])
     corners = {}
     for name, factor in (("small", 1.0 - lamp_tolerance), ("large", 1.0 + lamp_tolerance)):
-        corners[name] = _predict(_SpreadLamp(lamp, factor), load, heavy_light, corners_source,
-                                 corners_bypassed, source_resistance, frequency)
+        corners[name] = _predict(
+            _SpreadLamp(lamp, factor),
+            load,
+            heavy_light,
+            corners_source,
+            corners_bypassed,
+            source_resistance,
+            frequency,
+        )
     low, high = slice(0, n), slice(n, 2 * n)
     volts_low = corners["small"][0][0, low]
     volts_high = corners["large"][0][1, high]
@@ -627,10 +707,12 @@ def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0
 
     sensitivity = volts_k[0] - volts_k[1]
     current_sensitivity = amps_k[1] - amps_k[0]
-    uncertainty = np.where(by_current, _uncertainty(amps_k[0], *ammeter),
-                           _uncertainty(volts_k[0], *meter))
+    uncertainty = np.where(
+        by_current, _uncertainty(amps_k[0], *ammeter), _uncertainty(volts_k[0], *meter)
+    )
     sensitive = np.where(by_current, current_sensitivity, sensitivity) >= (
-        sensitivity_ratio * uncertainty)
+        sensitivity_ratio * uncertainty
+    )
 
     band_low = np.where(by_current, current_low, volts_low)
     band_high = np.where(by_current, current_high, volts_high)
@@ -645,17 +727,26 @@ def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0
 
     judged = tuple(
         ReadingJudgement(
-            index=i, status=status[i], lamp_bypassed=bool(bypassed[i]),
+            index=i,
+            status=status[i],
+            lamp_bypassed=bool(bypassed[i]),
             measured="current" if by_current[i] else "load_voltage",
             predicted_load_voltage=float(volts_k[0, i]),
-            load_voltage_low=float(volts_low[i]), load_voltage_high=float(volts_high[i]),
+            load_voltage_low=float(volts_low[i]),
+            load_voltage_high=float(volts_high[i]),
             predicted_current=float(amps_k[0, i]),
-            current_low=float(current_low[i]), current_high=float(current_high[i]),
-            predicted_glow=str(glow_k[0, i]), glow_dimmest=str(glow_dimmest[i]),
-            glow_brightest=str(glow_brightest[i]), inferred_draw=float(draw[i]),
-            inferred_draw_low=float(least_draw[i]), inferred_draw_high=float(most_draw[i]),
-            sensitivity=float(sensitivity[i]), current_sensitivity=float(current_sensitivity[i]),
-            meter_uncertainty=float(uncertainty[i]), sensitive=bool(sensitive[i]),
+            current_low=float(current_low[i]),
+            current_high=float(current_high[i]),
+            predicted_glow=str(glow_k[0, i]),
+            glow_dimmest=str(glow_dimmest[i]),
+            glow_brightest=str(glow_brightest[i]),
+            inferred_draw=float(draw[i]),
+            inferred_draw_low=float(least_draw[i]),
+            inferred_draw_high=float(most_draw[i]),
+            sensitivity=float(sensitivity[i]),
+            current_sensitivity=float(current_sensitivity[i]),
+            meter_uncertainty=float(uncertainty[i]),
+            sensitive=bool(sensitive[i]),
         )
         for i in range(n)
     )
@@ -666,16 +757,23 @@ def judge(lamp, load, readings, *, nominal_source_voltage, source_resistance=0.0
         reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
     reasons.sort(key=lambda reason: -OUTCOME_SEVERITY.index(reason.outcome))
     settings = {
-        "nominal_source_voltage": nominal, "source_resistance": source_resistance,
-        "frequency": frequency, "lamp_power_tolerance": lamp_tolerance,
-        "load_tolerance": load_tolerance, "meter_relative_accuracy": meter[0],
-        "meter_absolute_accuracy": meter[1], "current_relative_accuracy": ammeter[0],
-        "current_absolute_accuracy": ammeter[1], "fail_draw_multiple": fail_multiple,
-        "open_draw_multiple": open_multiple, "full_source_fraction": full_fraction,
+        "nominal_source_voltage": nominal,
+        "source_resistance": source_resistance,
+        "frequency": frequency,
+        "lamp_power_tolerance": lamp_tolerance,
+        "load_tolerance": load_tolerance,
+        "meter_relative_accuracy": meter[0],
+        "meter_absolute_accuracy": meter[1],
+        "current_relative_accuracy": ammeter[0],
+        "current_absolute_accuracy": ammeter[1],
+        "fail_draw_multiple": fail_multiple,
+        "open_draw_multiple": open_multiple,
+        "full_source_fraction": full_fraction,
         "min_sensitivity_ratio": sensitivity_ratio,
     }
-    return Verdict(outcome=reasons[0].outcome, reasons=tuple(reasons), readings=judged,
-                   settings=settings)
+    return Verdict(
+        outcome=reasons[0].outcome, reasons=tuple(reasons), readings=judged, settings=settings
+    )
 
 
 def _reading_sentence(reading, judged, declared):
@@ -684,12 +782,13 @@ def _reading_sentence(reading, judged, declared):
         where += " with the lamp bypassed"
     if judged.measured == "current":
         seen = f"the unit drew {_amps(reading.current)}"
-        band = (f"{declared} would draw {judged.current_low:.2g}-"
-                f"{_amps(judged.current_high)}")
+        band = f"{declared} would draw {judged.current_low:.2g}-{_amps(judged.current_high)}"
     else:
         seen = f"the unit read {_volts(reading.load_voltage)}"
-        band = (f"{declared} would read {judged.load_voltage_low:.3g}-"
-                f"{_volts(judged.load_voltage_high)}")
+        band = (
+            f"{declared} would read {judged.load_voltage_low:.3g}-"
+            f"{_volts(judged.load_voltage_high)}"
+        )
     sentence = f"{where} {seen}; {band}; inferred draw {_draw(judged.inferred_draw)}"
     low, high = judged.inferred_draw_low, judged.inferred_draw_high
     if np.isfinite(low) and np.isfinite(high) and high > 0:
@@ -702,8 +801,9 @@ def _draw_reasons(readings, judged, declared):
         DRAW_HIGH: "the unit draws far more than declared: look for a short or a failed part",
         DRAW_ABOVE_BAND: "the unit draws more than declared",
         DRAW_BELOW_BAND: "the unit draws less than declared",
-        DRAW_NEAR_ZERO: ("the unit draws next to nothing: look for an open fuse, switch or "
-                         "winding"),
+        DRAW_NEAR_ZERO: (
+            "the unit draws next to nothing: look for an open fuse, switch or winding"
+        ),
     }
     reasons = []
     for code, text in advice.items():
@@ -715,11 +815,12 @@ def _draw_reasons(readings, judged, declared):
         if code in (DRAW_HIGH, DRAW_ABOVE_BAND):
             worst = max(hits, key=lambda item: np.nan_to_num(item.inferred_draw_low))
         else:
-            worst = min(hits, key=lambda item: np.nan_to_num(item.inferred_draw_high,
-                                                             nan=np.inf))
+            worst = min(hits, key=lambda item: np.nan_to_num(item.inferred_draw_high, nan=np.inf))
         if code == DRAW_BELOW_BAND and worst.inferred_draw_low <= OPEN_DRAW_MULTIPLE:
-            text += (", perhaps nothing at all: look for an open fuse, switch or winding, or "
-                     "measure the current to tell")
+            text += (
+                ", perhaps nothing at all: look for an open fuse, switch or winding, or "
+                "measure the current to tell"
+            )
         more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
         sentence = _reading_sentence(readings[worst.index], worst, declared)
         reasons.append(Reason(code, f"{sentence}: {text}{more}", worst.index))
@@ -736,32 +837,55 @@ def _glow_reasons(readings, judged, load, declared):
             continue
         where = f"at {_volts(reading.source_voltage)} source"
         if reading.behaviour_seen == "cycling" and not load.may_cycle:
-            found.setdefault(GLOW_CYCLING_UNEXPECTED, Reason(
+            found.setdefault(
                 GLOW_CYCLING_UNEXPECTED,
-                f"{where} the lamp's glow cycled; the declared load "
-                f"({load.describe()['summary']}) holds a steady glow: look for an intermittent "
-                "connection, a thermal cut-out, or a unit that is not what was declared",
-                item.index))
+                Reason(
+                    GLOW_CYCLING_UNEXPECTED,
+                    f"{where} the lamp's glow cycled; the declared load "
+                    f"({load.describe()['summary']}) holds a steady glow: look for an intermittent "
+                    "connection, a thermal cut-out, or a unit that is not what was declared",
+                    item.index,
+                ),
+            )
         if reading.glow_seen is None:
             continue
         seen = GLOW_CLASSES.index(reading.glow_seen)
         brightest = GLOW_CLASSES.index(item.glow_brightest)
         dimmest = GLOW_CLASSES.index(item.glow_dimmest)
-        expected = (f"{declared} keeps it {item.glow_dimmest}" if dimmest == brightest else
-                    f"{declared} keeps it {item.glow_dimmest} to {item.glow_brightest}")
+        expected = (
+            f"{declared} keeps it {item.glow_dimmest}"
+            if dimmest == brightest
+            else f"{declared} keeps it {item.glow_dimmest} to {item.glow_brightest}"
+        )
         sentence = f"{where} the lamp was seen {reading.glow_seen}; {expected}"
         if seen == bright and brightest <= faint:
-            found.setdefault(GLOW_BRIGHT_UNEXPECTED, Reason(
-                GLOW_BRIGHT_UNEXPECTED, f"{sentence}: the unit draws far more than declared",
-                item.index))
+            found.setdefault(
+                GLOW_BRIGHT_UNEXPECTED,
+                Reason(
+                    GLOW_BRIGHT_UNEXPECTED,
+                    f"{sentence}: the unit draws far more than declared",
+                    item.index,
+                ),
+            )
         elif seen >= brightest + 2:
-            found.setdefault(GLOW_BRIGHTER_THAN_PREDICTED, Reason(
-                GLOW_BRIGHTER_THAN_PREDICTED, f"{sentence}: the unit may draw more than "
-                "declared", item.index))
+            found.setdefault(
+                GLOW_BRIGHTER_THAN_PREDICTED,
+                Reason(
+                    GLOW_BRIGHTER_THAN_PREDICTED,
+                    f"{sentence}: the unit may draw more than declared",
+                    item.index,
+                ),
+            )
         elif seen <= dimmest - 2:
-            found.setdefault(GLOW_DIMMER_THAN_PREDICTED, Reason(
-                GLOW_DIMMER_THAN_PREDICTED, f"{sentence}: the unit may draw less than "
-                "declared, or the lamp is not the one declared", item.index))
+            found.setdefault(
+                GLOW_DIMMER_THAN_PREDICTED,
+                Reason(
+                    GLOW_DIMMER_THAN_PREDICTED,
+                    f"{sentence}: the unit may draw less than "
+                    "declared, or the lamp is not the one declared",
+                    item.index,
+                ),
+            )
     reasons.extend(found.values())
     return reasons
 
@@ -775,7 +899,9 @@ def _completion_reason(readings, judged, nominal, full_fraction):
             SOURCE_NOT_FULL,
             f"the highest source reading was {_volts(source[top])}, "
             f"{100 * source[top] / nominal:.0f} % of the {_volts(nominal)} nominal; a pass "
-            f"needs at least {100 * full_fraction:.0f} % ({_volts(full)})", top)
+            f"needs at least {100 * full_fraction:.0f} % ({_volts(full)})",
+            top,
+        )
     at_full = [item for item in judged if readings[item.index].source_voltage >= full]
     if not any(item.sensitive for item in at_full):
         through_lamp = [item for item in at_full if not item.lamp_bypassed]
@@ -786,19 +912,27 @@ def _completion_reason(readings, judged, nominal, full_fraction):
                 f"at {_volts(readings[item.index].source_voltage)} source the lamp was "
                 f"bypassed and no current was measured; the unit's volts would move by only "
                 f"{_volts(item.sensitivity)} for a doubling of draw, within the meter's "
-                f"{_volts(item.meter_uncertainty)}: measure the current", item.index)
+                f"{_volts(item.meter_uncertainty)}: measure the current",
+                item.index,
+            )
         item = max(through_lamp, key=lambda item: item.sensitivity / item.meter_uncertainty)
         if item.measured == "current":
-            change = (f"its current by only {_amps(item.current_sensitivity)}, within the "
-                      f"meter's {_amps(item.meter_uncertainty)}")
+            change = (
+                f"its current by only {_amps(item.current_sensitivity)}, within the "
+                f"meter's {_amps(item.meter_uncertainty)}"
+            )
         else:
-            change = (f"its volts by only {_volts(item.sensitivity)}, within the meter's "
-                      f"{_volts(item.meter_uncertainty)}")
+            change = (
+                f"its volts by only {_volts(item.sensitivity)}, within the meter's "
+                f"{_volts(item.meter_uncertainty)}"
+            )
         return Reason(
             LAMP_TOO_LARGE,
             f"at {_volts(readings[item.index].source_voltage)} source a doubling of the "
             f"unit's draw would move {change}: the lamp is too large to tell a fault; use a "
-            "smaller lamp", item.index)
+            "smaller lamp",
+            item.index,
+        )
     item = max(at_full, key=lambda item: readings[item.index].source_voltage)
     reading = readings[item.index]
     return Reason(
@@ -806,4 +940,6 @@ def _completion_reason(readings, judged, nominal, full_fraction):
         f"all {len(readings)} readings were in band, up to {_volts(reading.source_voltage)} "
         f"source ({100 * reading.source_voltage / nominal:.0f} % of the {_volts(nominal)} "
         f"nominal); there a doubling of draw would move the unit by "
-        f"{_volts(item.sensitivity)}", item.index)
+        f"{_volts(item.sensitivity)}",
+        item.index,
+    )

@@ -92,8 +92,9 @@ def _check_scalar(value, name, unit, low=None, high=None, positive=False):
     if positive and number <= 0.0:
         raise ValueError(f"{name} must be positive (got {number:g}{unit})")
     if low is not None and not low <= number <= high:
-        raise ValueError(f"{name} must lie between {low:g}{unit} and {high:g}{unit} "
-                         f"(got {number:g}{unit})")
+        raise ValueError(
+            f"{name} must lie between {low:g}{unit} and {high:g}{unit} (got {number:g}{unit})"
+        )
     return number
 
 
@@ -217,40 +218,57 @@ class Lamp:
        characteristics of tungsten lamps", Astrophys. J. 61, 146 (1925).
     """
 
-    def __init__(self, rated_voltage, rated_power, fill="gas", rated_temperature=None,
-                 cold_resistance=None, ambient_temperature=300.0, conduction_fraction=None):
+    def __init__(
+        self,
+        rated_voltage,
+        rated_power,
+        fill="gas",
+        rated_temperature=None,
+        cold_resistance=None,
+        ambient_temperature=300.0,
+        conduction_fraction=None,
+    ):
         self._rated_voltage = _check_scalar(
-            rated_voltage, "rated_voltage", "V", *RATED_VOLTAGE_RANGE)
+            rated_voltage, "rated_voltage", "V", *RATED_VOLTAGE_RANGE
+        )
         self._rated_power = _check_scalar(rated_power, "rated_power", "W", positive=True)
         self._fill = _check_fill(fill)
         self._ambient_temperature = _check_scalar(
-            ambient_temperature, "ambient_temperature", "K", *AMBIENT_TEMPERATURE_RANGE)
+            ambient_temperature, "ambient_temperature", "K", *AMBIENT_TEMPERATURE_RANGE
+        )
         if rated_temperature is not None and cold_resistance is not None:
-            raise ValueError("give rated_temperature or cold_resistance, not both: the cold "
-                             "resistance fixes the rated temperature")
+            raise ValueError(
+                "give rated_temperature or cold_resistance, not both: the cold "
+                "resistance fixes the rated temperature"
+            )
         if cold_resistance is not None:
             cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
             rated_temperature = _rated_temperature_from_cold_resistance(
-                cold, self.hot_resistance, self._ambient_temperature)
+                cold, self.hot_resistance, self._ambient_temperature
+            )
         elif rated_temperature is None:
             rated_temperature = default_rated_temperature(self._rated_power, fill)
         self._rated_temperature = _check_scalar(
-            rated_temperature, "rated_temperature", "K", *RATED_TEMPERATURE_RANGE)
+            rated_temperature, "rated_temperature", "K", *RATED_TEMPERATURE_RANGE
+        )
         if conduction_fraction is None:
             conduction_fraction = DEFAULT_CONDUCTION_FRACTION[fill]
         self._conduction_fraction = _check_scalar(
-            conduction_fraction, "conduction_fraction", "", *CONDUCTION_FRACTION_RANGE)
+            conduction_fraction, "conduction_fraction", "", *CONDUCTION_FRACTION_RANGE
+        )
         self._conduction_exponent = CONDUCTION_EXPONENT[fill]
 
         ambient, rated = self._ambient_temperature, self._rated_temperature
         self._rated_resistivity = float(tungsten_resistivity(rated))
         # A * sigma and G of the Notes, fixed by P_loss(T_r) = P_r and the conduction fraction.
         self._radiation_coefficient = (
-            (1.0 - self._conduction_fraction) * self._rated_power
+            (1.0 - self._conduction_fraction)
+            * self._rated_power
             / (tungsten_emissivity(rated) * (rated**4 - ambient**4))
         )
         self._conduction_coefficient = (
-            self._conduction_fraction * self._rated_power
+            self._conduction_fraction
+            * self._rated_power
             / (rated**self._conduction_exponent - ambient**self._conduction_exponent)
         )
         self._build_curve()
@@ -306,10 +324,12 @@ class Lamp:
         return float(self._curve.voltage[-1])
 
     def __repr__(self):
-        return (f"Lamp(rated_voltage={self._rated_voltage:g}, rated_power={self._rated_power:g}, "
-                f"fill={self._fill!r}, rated_temperature={self._rated_temperature:.1f}, "
-                f"ambient_temperature={self._ambient_temperature:g}, "
-                f"conduction_fraction={self._conduction_fraction:g})")
+        return (
+            f"Lamp(rated_voltage={self._rated_voltage:g}, rated_power={self._rated_power:g}, "
+            f"fill={self._fill!r}, rated_temperature={self._rated_temperature:.1f}, "
+            f"ambient_temperature={self._ambient_temperature:g}, "
+            f"conduction_fraction={self._conduction_fraction:g})"
+        )
 
     def resistance_at_temperature(self, temperature):
         """
@@ -356,20 +376,16 @@ class Lamp:
         """
         values = np.asarray(temperature, dtype=float)
         ambient, exponent = self._ambient_temperature, self._conduction_exponent
-        return (
-            self._radiation_coefficient * tungsten_emissivity(values) * (values**4 - ambient**4)
-            + self._conduction_coefficient * (values**exponent - ambient**exponent)
-        )
+        return self._radiation_coefficient * tungsten_emissivity(values) * (
+            values**4 - ambient**4
+        ) + self._conduction_coefficient * (values**exponent - ambient**exponent)
 
     def _power_loss_derivative(self, temperature):
         ambient, exponent = self._ambient_temperature, self._conduction_exponent
-        return (
-            self._radiation_coefficient * (
-                tungsten_emissivity_derivative(temperature) * (temperature**4 - ambient**4)
-                + 4.0 * tungsten_emissivity(temperature) * temperature**3
-            )
-            + self._conduction_coefficient * exponent * temperature ** (exponent - 1.0)
-        )
+        return self._radiation_coefficient * (
+            tungsten_emissivity_derivative(temperature) * (temperature**4 - ambient**4)
+            + 4.0 * tungsten_emissivity(temperature) * temperature**3
+        ) + self._conduction_coefficient * exponent * temperature ** (exponent - 1.0)
 
     def _build_curve(self):
         ambient = self._ambient_temperature
@@ -381,8 +397,10 @@ class Lamp:
         current = voltage / resistance
         for name, values in (("voltage", voltage), ("current", current)):
             if not np.all(np.diff(values) > 0.0):
-                raise ValueError(f"the lamp's {name} does not rise with filament temperature "
-                                 f"for these parameters: {self!r}")
+                raise ValueError(
+                    f"the lamp's {name} does not rise with filament temperature "
+                    f"for these parameters: {self!r}"
+                )
         for values in (voltage, current, temperature):
             values.setflags(write=False)
         self._curve = LampCurve(voltage, current, temperature)
@@ -422,11 +440,16 @@ class Lamp:
         for _ in range(NEWTON_STEPS):
             resistance = self.resistance_at_temperature(temperature)
             loss = self.power_loss(temperature)
-            slope = (self._power_loss_derivative(temperature) * resistance
-                     + loss * self.hot_resistance
-                     * tungsten_resistivity_derivative(temperature) / self._rated_resistivity)
-            temperature = np.clip(temperature - (loss * resistance - target) / slope,
-                                  ambient, TABLE_MAX_TEMPERATURE)
+            slope = (
+                self._power_loss_derivative(temperature) * resistance
+                + loss
+                * self.hot_resistance
+                * tungsten_resistivity_derivative(temperature)
+                / self._rated_resistivity
+            )
+            temperature = np.clip(
+                temperature - (loss * resistance - target) / slope, ambient, TABLE_MAX_TEMPERATURE
+            )
         return temperature
 
     def resistance(self, voltage):
@@ -498,8 +521,7 @@ class Lamp:
         The filament's area does not change, so the light output scales with its luminance
         (:func:`shop.physics.glow.luminance`).
         """
-        return (luminance(self.filament_temperature(voltage))
-                / luminance(self._rated_temperature))
+        return luminance(self.filament_temperature(voltage)) / luminance(self._rated_temperature)
 
     def glow(self, voltage):
         """
@@ -518,8 +540,15 @@ class Lamp:
         return glow_class(self.filament_temperature(voltage), self._rated_temperature)
 
     @classmethod
-    def fit(cls, rated_voltage, rated_power, points=None, cold_resistance=None, fill="gas",
-            ambient_temperature=300.0):
+    def fit(
+        cls,
+        rated_voltage,
+        rated_power,
+        points=None,
+        cold_resistance=None,
+        fill="gas",
+        ambient_temperature=300.0,
+    ):
         """
         Calibrate a lamp's rated temperature and conduction fraction to measurements.
 
@@ -554,12 +583,18 @@ class Lamp:
         """
         if points is None and cold_resistance is None:
             raise ValueError("give points, cold_resistance or both to fit a lamp")
-        reference = cls(rated_voltage, rated_power, fill=fill,
-                        ambient_temperature=ambient_temperature)
+        reference = cls(
+            rated_voltage, rated_power, fill=fill, ambient_temperature=ambient_temperature
+        )
         if cold_resistance is not None:
             cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
-            start = cls(rated_voltage, rated_power, fill=fill, cold_resistance=cold,
-                        ambient_temperature=ambient_temperature)
+            start = cls(
+                rated_voltage,
+                rated_power,
+                fill=fill,
+                cold_resistance=cold,
+                ambient_temperature=ambient_temperature,
+            )
         else:
             cold, start = None, reference
         volts, amps = _check_points(points, reference.rated_voltage, cold is not None)
@@ -569,9 +604,14 @@ class Lamp:
         rated_current = reference.rated_power / reference.rated_voltage
 
         def lamp_for(parameters):
-            return cls(rated_voltage, rated_power, fill=fill,
-                       rated_temperature=parameters[0], conduction_fraction=parameters[1],
-                       ambient_temperature=ambient_temperature)
+            return cls(
+                rated_voltage,
+                rated_power,
+                fill=fill,
+                rated_temperature=parameters[0],
+                conduction_fraction=parameters[1],
+                ambient_temperature=ambient_temperature,
+            )
 
         def residuals(parameters):
             lamp = lamp_for(parameters)
@@ -583,8 +623,10 @@ class Lamp:
         result = least_squares(
             residuals,
             x0=[start.rated_temperature, start.conduction_fraction],
-            bounds=([RATED_TEMPERATURE_RANGE[0], FIT_CONDUCTION_FRACTION_RANGE[0]],
-                    [RATED_TEMPERATURE_RANGE[1], FIT_CONDUCTION_FRACTION_RANGE[1]]),
+            bounds=(
+                [RATED_TEMPERATURE_RANGE[0], FIT_CONDUCTION_FRACTION_RANGE[0]],
+                [RATED_TEMPERATURE_RANGE[1], FIT_CONDUCTION_FRACTION_RANGE[1]],
+            ),
             x_scale=[100.0, 0.05],
             xtol=1e-12,
         )
@@ -601,8 +643,9 @@ def _check_points(points, rated_voltage, have_cold_resistance):
     if values.size == 0:
         raise ValueError("points must not be empty: give (volts, amps) pairs or leave it out")
     if values.ndim != 2 or values.shape[1] != 2:
-        raise ValueError(f"points must be (volts, amps) pairs, shape (n, 2) "
-                         f"(got shape {values.shape})")
+        raise ValueError(
+            f"points must be (volts, amps) pairs, shape (n, 2) (got shape {values.shape})"
+        )
     if np.any(np.isnan(values)) or np.any(np.isinf(values)):
         raise ValueError("points must be finite numbers (got NaN or infinity)")
     if np.any(values < 0.0):
@@ -610,10 +653,13 @@ def _check_points(points, rated_voltage, have_cold_resistance):
     if np.any(values[:, 0] > FIT_MAX_VOLTAGE_RATIO * rated_voltage):
         raise ValueError(
             f"points must not exceed {FIT_MAX_VOLTAGE_RATIO:g}x rated voltage "
-            f"({FIT_MAX_VOLTAGE_RATIO * rated_voltage:g} V; got {values[:, 0].max():g} V)")
+            f"({FIT_MAX_VOLTAGE_RATIO * rated_voltage:g} V; got {values[:, 0].max():g} V)"
+        )
     if values.shape[0] + have_cold_resistance < 2:
-        raise ValueError("points must hold at least 2 (volts, amps) pairs to fit rated "
-                         "temperature and conduction fraction, or add cold_resistance")
+        raise ValueError(
+            "points must hold at least 2 (volts, amps) pairs to fit rated "
+            "temperature and conduction fraction, or add cold_resistance"
+        )
     return values[:, 0], values[:, 1]
 
 
@@ -790,8 +836,10 @@ class LampBank:
         give light in proportion to their rated power at rating.
         """
         values = self._check(voltage)
-        return sum(lamp.rated_power * lamp.relative_light(values)
-                   for lamp in self._lamps) / self.rated_power
+        return (
+            sum(lamp.rated_power * lamp.relative_light(values) for lamp in self._lamps)
+            / self.rated_power
+        )
 
     def glow(self, voltage):
         """
@@ -809,8 +857,13 @@ class LampBank:
         """
         values = self._check(voltage)
         classes = np.asarray(GLOW_CLASSES)
-        rank = np.max([np.argmax(lamp.glow(values)[..., np.newaxis] == classes, axis=-1)
-                       for lamp in self._lamps], axis=0)
+        rank = np.max(
+            [
+                np.argmax(lamp.glow(values)[..., np.newaxis] == classes, axis=-1)
+                for lamp in self._lamps
+            ],
+            axis=0,
+        )
         return np.asarray(classes[rank])
 
     def curve(self):

@@ -220,8 +220,10 @@ class ResistiveLoad:
             "parameters": {
                 "resistance": {"value": _value_for_record(self.resistance), "unit": "ohm"},
                 "rated_voltage": {"value": self.rated_voltage, "unit": "V"},
-                "rated_power": {"value": _value_for_record(np.asarray(self.rated_power)),
-                                "unit": "W"},
+                "rated_power": {
+                    "value": _value_for_record(np.asarray(self.rated_power)),
+                    "unit": "W",
+                },
             },
         }
 

@@ -31,8 +31,9 @@ def _read_table(name):
     return np.loadtxt(DATA_DIRECTORY / name, delimiter=",", skiprows=1, ndmin=2)
 
 
-def _check_temperature(temperature, name="temperature", low=TABLE_MIN_TEMPERATURE,
-                      high=TABLE_MAX_TEMPERATURE):
+def _check_temperature(
+    temperature, name="temperature", low=TABLE_MIN_TEMPERATURE, high=TABLE_MAX_TEMPERATURE
+):
     """
     Return ``temperature`` as a float array after checking it lies in [low, high].
 

@@ -4,6 +4,7 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
+from shop.physics import scenarios as reference
 from shop.physics.advice import (
     ADVICE_MIN_LOAD_FRACTION,
     ADVICE_MIN_SENSITIVITY_RATIO,
@@ -17,7 +18,6 @@ from shop.physics.advice import (
 from shop.physics.circuit import solve_series
 from shop.physics.lamp import Lamp, LampBank
 from shop.physics.loads import ResistiveLoad
-from tests.physics import reference
 
 RIG_LAMPS = [Lamp(120.0, power) for power in (15.0, 25.0, 40.0, 60.0, 75.0, 100.0, 150.0)]
 BANK = LampBank([Lamp(120.0, 100.0), Lamp(120.0, 100.0)])
@@ -111,8 +111,9 @@ def test_a_lamp_rated_below_the_source_is_ranked_last():
 
 
 def test_a_lamp_whose_table_ends_below_the_source_has_no_figures():
-    advice = advise_lamp(ResistiveLoad.from_rating(230.0, 30.0),
-                         [Lamp(120.0, 100.0), Lamp(230.0, 100.0)], 240.0)
+    advice = advise_lamp(
+        ResistiveLoad.from_rating(230.0, 30.0), [Lamp(120.0, 100.0), Lamp(230.0, 100.0)], 240.0
+    )
     last = advice[-1]
     assert last.suitability == UNDER_RATED
     assert np.isnan(last.fault_current)

@@ -7,6 +7,7 @@ import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 
+from shop.physics import scenarios as reference
 from shop.physics.circuit import (
     bracketed_root,
     solve_bypassed,
@@ -15,10 +16,10 @@ from shop.physics.circuit import (
 )
 from shop.physics.lamp import Lamp, LampBank
 from shop.physics.loads import ResistiveLoad
-from tests.physics import reference
 
-TRADE_FACTS = Path(__file__).resolve().parents[2] / "fixtures" / "physics" / "checks" / (
-    "trade_facts.csv")
+TRADE_FACTS = (
+    Path(__file__).resolve().parents[2] / "fixtures" / "physics" / "checks" / ("trade_facts.csv")
+)
 LAMP_60 = Lamp(120.0, 60.0)
 UNIT_30 = ResistiveLoad.from_rating(120.0, 30.0)
 
@@ -50,10 +51,15 @@ def test_a_60_w_lamp_and_500_ohm_give_the_resistor_what_the_trade_says(fact):
     # Common practice, no source (fixtures/physics/checks/trade_facts.csv): "roughly 93 V,
     # within about 10 %" through a rig of 1-3 ohm windings.
     lamp = Lamp(float(fact["lamp_voltage"]), float(fact["lamp_power"]), fill="gas")
-    result = solve_series(lamp, ResistiveLoad(float(fact["load_resistance"])),
-                          float(fact["source_voltage"]), float(fact["source_resistance"]))
-    assert_allclose(result.load_voltage, float(fact["expected"]),
-                    rtol=float(fact["relative_tolerance"]))
+    result = solve_series(
+        lamp,
+        ResistiveLoad(float(fact["load_resistance"])),
+        float(fact["source_voltage"]),
+        float(fact["source_resistance"]),
+    )
+    assert_allclose(
+        result.load_voltage, float(fact["expected"]), rtol=float(fact["relative_tolerance"])
+    )
 
 
 def test_a_dead_short_draws_exactly_the_lamps_own_current():
@@ -109,20 +115,31 @@ def test_power_balances_for_a_resistive_unit():
 def test_agrees_with_a_scalar_brentq_reference(source_resistance):
     source = np.linspace(2.0, 128.0, 12)
     result = solve_series(LAMP_60, UNIT_30, source, source_resistance)
-    expected = [reference.operating_point(LAMP_60, UNIT_30.resistance, float(volts),
-                                          source_resistance) for volts in source]
+    expected = [
+        reference.operating_point(LAMP_60, UNIT_30.resistance, float(volts), source_resistance)
+        for volts in source
+    ]
     # Two independent solves of the same equations, each to about 1e-12 V: 1e-6 V is the
     # agreement the benchmark promises, with room to spare.
     assert_allclose(result.load_voltage, [point[0] for point in expected], rtol=0, atol=1e-6)
     assert_allclose(result.current, [point[1] for point in expected], rtol=1e-8)
 
 
-@pytest.mark.parametrize("source, shape", [(120.0, ()), ([30.0, 60.0, 90.0], (3,)),
-                                           (np.full((2, 3), 50.0), (2, 3))])
+@pytest.mark.parametrize(
+    "source, shape", [(120.0, ()), ([30.0, 60.0, 90.0], (3,)), (np.full((2, 3), 50.0), (2, 3))]
+)
 def test_every_field_is_shaped_like_the_source_voltage(source, shape):
     result = solve_series(LAMP_60, UNIT_30, source)
-    for field in ("source_voltage", "load_voltage", "current", "lamp_voltage", "lamp_power",
-                  "load_power", "filament_temperature", "glow"):
+    for field in (
+        "source_voltage",
+        "load_voltage",
+        "current",
+        "lamp_voltage",
+        "lamp_power",
+        "load_power",
+        "filament_temperature",
+        "glow",
+    ):
         assert np.shape(getattr(result, field)) == shape, field
 
 
@@ -183,11 +200,14 @@ def test_a_source_voltage_beyond_the_lamp_table_is_refused_by_name():
         solve_series(LAMP_60, ResistiveLoad(0.0), [100.0, 400.0])
 
 
-@pytest.mark.parametrize("source, message", [
-    (-3.0, "source_voltage must not be negative"),
-    ([10.0, np.nan], "source_voltage must be a number of volts, not NaN"),
-    (np.inf, "source_voltage must be finite"),
-])
+@pytest.mark.parametrize(
+    "source, message",
+    [
+        (-3.0, "source_voltage must not be negative"),
+        ([10.0, np.nan], "source_voltage must be a number of volts, not NaN"),
+        (np.inf, "source_voltage must be finite"),
+    ],
+)
 def test_non_physical_source_voltage_is_refused_by_name(source, message):
     with pytest.raises(ValueError, match=message):
         solve_series(LAMP_60, UNIT_30, source)
@@ -235,14 +255,16 @@ def test_unit_operating_point_matches_solve_series():
 
 def test_bracketed_root_finds_every_root_at_once():
     targets = np.array([0.5, 2.0, 7.0, 26.0])
-    roots, residual = bracketed_root(lambda x: x**3 - targets, np.zeros(4), np.full(4, 3.0),
-                                     -targets, 27.0 - targets, 1e-14)
+    roots, residual = bracketed_root(
+        lambda x: x**3 - targets, np.zeros(4), np.full(4, 3.0), -targets, 27.0 - targets, 1e-14
+    )
     # Cube roots, each to the tolerance asked for (1e-14 on x**3 near 1-26: about 1e-15 in x).
     assert_allclose(roots, np.cbrt(targets), rtol=1e-13)
     assert np.all(np.abs(residual) <= 1e-14)
 
 
 def test_bracketed_root_accepts_a_root_at_a_bracket_end():
-    roots, _ = bracketed_root(lambda x: x - 1.0, np.array([1.0]), np.array([2.0]),
-                              np.array([0.0]), np.array([1.0]), 1e-15)
+    roots, _ = bracketed_root(
+        lambda x: x - 1.0, np.array([1.0]), np.array([2.0]), np.array([0.0]), np.array([1.0]), 1e-15
+    )
     assert roots[0] == 1.0

@@ -28,8 +28,9 @@ lamp_index = st.integers(0, len(LAMPS) - 1)
 
 @PROPERTY_SETTINGS
 @given(lamp=lamp_index, resistance=resistances, winding=windings, first=sources, second=sources)
-def test_more_source_volts_never_lowers_load_volts_or_current(lamp, resistance, winding, first,
-                                                              second):
+def test_more_source_volts_never_lowers_load_volts_or_current(
+    lamp, resistance, winding, first, second
+):
     low, high = sorted((first, second))
     result = solve_series(LAMPS[lamp], ResistiveLoad(resistance), [low, high], winding)
     assert result.load_voltage[1] >= result.load_voltage[0] - SLACK
@@ -37,10 +38,12 @@ def test_more_source_volts_never_lowers_load_volts_or_current(lamp, resistance, 
 
 
 @PROPERTY_SETTINGS
-@given(smaller=lamp_index, larger=lamp_index, resistance=resistances, winding=windings,
-       source=sources)
-def test_a_larger_lamp_never_lowers_load_volts_for_the_same_load(smaller, larger, resistance,
-                                                                 winding, source):
+@given(
+    smaller=lamp_index, larger=lamp_index, resistance=resistances, winding=windings, source=sources
+)
+def test_a_larger_lamp_never_lowers_load_volts_for_the_same_load(
+    smaller, larger, resistance, winding, source
+):
     smaller, larger = sorted((smaller, larger))
     load = ResistiveLoad(resistance)
     small = solve_series(LAMPS[smaller], load, source, winding)
@@ -49,10 +52,16 @@ def test_a_larger_lamp_never_lowers_load_volts_for_the_same_load(smaller, larger
 
 
 @PROPERTY_SETTINGS
-@given(lamp=lamp_index, extra=st.sampled_from(LAMPS), resistance=resistances, winding=windings,
-       source=sources)
-def test_adding_a_lamp_to_the_bank_never_lowers_load_volts(lamp, extra, resistance, winding,
-                                                           source):
+@given(
+    lamp=lamp_index,
+    extra=st.sampled_from(LAMPS),
+    resistance=resistances,
+    winding=windings,
+    source=sources,
+)
+def test_adding_a_lamp_to_the_bank_never_lowers_load_volts(
+    lamp, extra, resistance, winding, source
+):
     load = ResistiveLoad(resistance)
     alone = solve_series(LAMPS[lamp], load, source, winding)
     banked = solve_series(LampBank([LAMPS[lamp], extra]), load, source, winding)
@@ -68,8 +77,12 @@ def test_a_heavier_load_never_raises_load_volts(lamp, first, second, winding, so
 
 
 @PROPERTY_SETTINGS
-@given(lamp=lamp_index, resistance=st.floats(1.0, 5000.0), winding=windings,
-       source=st.floats(0.01, MAX_SOURCE))
+@given(
+    lamp=lamp_index,
+    resistance=st.floats(1.0, 5000.0),
+    winding=windings,
+    source=st.floats(0.01, MAX_SOURCE),
+)
 def test_power_balances_to_a_part_in_a_billion(lamp, resistance, winding, source):
     result = solve_series(LAMPS[lamp], ResistiveLoad(resistance), source, winding)
     supplied = source * result.current
@@ -89,7 +102,8 @@ def test_a_short_draws_the_lamp_alone_current(lamp, source):
 @PROPERTY_SETTINGS
 @given(lamp=lamp_index, source=sources)
 def test_two_equal_lamps_in_a_bank_draw_twice_one_lamps_current_at_the_same_temperature(
-        lamp, source):
+    lamp, source
+):
     single = solve_series(LAMPS[lamp], ResistiveLoad(0.0), source)
     bank = solve_series(LampBank([LAMPS[lamp], LAMPS[lamp]]), ResistiveLoad(0.0), source)
     # Same voltage, same filament temperature, twice the current: rounding only.
@@ -100,11 +114,16 @@ def test_two_equal_lamps_in_a_bank_draw_twice_one_lamps_current_at_the_same_temp
 @PROPERTY_SETTINGS
 @given(resistance=resistances, winding=windings, source=sources)
 def test_a_bank_of_two_equals_one_lamp_of_twice_the_power_with_the_same_filament_design(
-        resistance, winding, source):
+    resistance, winding, source
+):
     # Twice the rated power at the same rated temperature and conduction fraction halves the
     # resistance and doubles the loss at every temperature: the same curve as the bank.
-    twice = Lamp(120.0, 120.0, rated_temperature=LAMP_60.rated_temperature,
-                 conduction_fraction=LAMP_60.conduction_fraction)
+    twice = Lamp(
+        120.0,
+        120.0,
+        rated_temperature=LAMP_60.rated_temperature,
+        conduction_fraction=LAMP_60.conduction_fraction,
+    )
     load = ResistiveLoad(resistance)
     bank = solve_series(LampBank([LAMP_60, LAMP_60]), load, source, winding)
     single = solve_series(twice, load, source, winding)
@@ -119,8 +138,9 @@ def test_a_bank_of_two_60_w_lamps_is_not_a_default_120_w_lamp_below_rating():
     # definition, but below rating the 120 W lamp draws a little more.
     bank = LampBank([LAMP_60, LAMP_60])
     hundred_twenty = Lamp(120.0, 120.0)
-    at_rating = [solve_series(lamp, ResistiveLoad(0.0), 120.0).current
-                 for lamp in (bank, hundred_twenty)]
+    at_rating = [
+        solve_series(lamp, ResistiveLoad(0.0), 120.0).current for lamp in (bank, hundred_twenty)
+    ]
     assert_allclose(at_rating, 1.0, rtol=1e-12)  # P / V at rating, rounding only
     low = [solve_series(lamp, ResistiveLoad(0.0), 10.0).current for lamp in (bank, hundred_twenty)]
     # Measured 0.27 % apart at 10 V; solver error is below 1e-12, so 0.1 % cannot be noise.

@@ -50,8 +50,9 @@ def test_blackbody_luminance_matches_colour_science(temperature):
     # colour-science (K_m = 683 lm/W, CIE V(lambda) at 1 nm, trapezoid rule) is the external
     # check. It takes c2 = 1.4388e-2 m K (ITS-90) against CODATA's 1.438777e-2 here, which moves
     # exp(-c2 / lambda T) by up to 5e-4 at 800 K; 5 nm against 1 nm adds about 1e-4: 1e-3.
-    assert_allclose(blackbody_luminance(temperature), colour_science_luminance(temperature),
-                    rtol=1e-3)
+    assert_allclose(
+        blackbody_luminance(temperature), colour_science_luminance(temperature), rtol=1e-3
+    )
 
 
 @pytest.mark.parametrize("temperature", TEMPERATURES)
@@ -73,8 +74,9 @@ def test_blackbody_at_the_platinum_point_is_sixty_candela_per_square_centimetre(
 def test_tungsten_luminance_is_the_visible_emissivity_times_the_blackbody():
     temperature = np.array([1000.0, 2800.0])
     # Same arithmetic on both sides, so only rounding separates them.
-    assert_allclose(luminance(temperature),
-                    VISIBLE_EMISSIVITY * blackbody_luminance(temperature), rtol=1e-14)
+    assert_allclose(
+        luminance(temperature), VISIBLE_EMISSIVITY * blackbody_luminance(temperature), rtol=1e-14
+    )
 
 
 def test_luminance_does_not_underflow_to_nan_at_room_temperature():
@@ -92,8 +94,7 @@ def test_planckian_locus_at_2856_kelvin_is_cie_illuminant_a():
     # CIE 015:2018, illuminant A, quoted to 4 digits (DESIGN.md 7): half a unit in the last
     # digit plus the ITS-90/CODATA c2 difference (2e-5): 1e-4.
     x, y = glow_colour(REFERENCE["illuminant_a_temperature"])
-    assert_allclose([x, y], [REFERENCE["illuminant_a_x"], REFERENCE["illuminant_a_y"]],
-                    atol=1e-4)
+    assert_allclose([x, y], [REFERENCE["illuminant_a_x"], REFERENCE["illuminant_a_y"]], atol=1e-4)
 
 
 @pytest.mark.parametrize("temperature", TEMPERATURES)
@@ -124,8 +125,11 @@ def test_glow_is_bright_at_the_rated_temperature():
 
 @pytest.mark.parametrize(
     ("limit", "below", "above"),
-    [(FAINT_LIMIT, "faint", "dull"), (DULL_LIMIT, "dull", "medium"),
-     (MEDIUM_LIMIT, "medium", "bright")],
+    [
+        (FAINT_LIMIT, "faint", "dull"),
+        (DULL_LIMIT, "dull", "medium"),
+        (MEDIUM_LIMIT, "medium", "bright"),
+    ],
 )
 def test_glow_class_changes_where_relative_luminance_crosses_its_limit(limit, below, above):
     rated = luminance(RATED)
@@ -137,9 +141,11 @@ def test_glow_limits_fall_where_their_comments_say_for_a_lamp_rated_at_2775_kelv
     # glow.py justifies each limit by the temperature and absolute luminance it falls at for a
     # 2775 K lamp (about 1360 K / 700 cd/m^2, 1840 K / 7e4, 2360 K / 1.4e6); keep them honest.
     rated = luminance(2775.0)
-    for limit, temperature, absolute in [(FAINT_LIMIT, 1360.0, 700.0),
-                                         (DULL_LIMIT, 1840.0, 7e4),
-                                         (MEDIUM_LIMIT, 2360.0, 1.4e6)]:
+    for limit, temperature, absolute in [
+        (FAINT_LIMIT, 1360.0, 700.0),
+        (DULL_LIMIT, 1840.0, 7e4),
+        (MEDIUM_LIMIT, 2360.0, 1.4e6),
+    ]:
         crossing = brentq(lambda t, limit=limit: luminance(t) / rated - limit, 800.0, 2775.0)
         # The comments round: within 15 K and 10 %.
         assert_allclose(crossing, temperature, atol=15.0)
@@ -148,8 +154,9 @@ def test_glow_limits_fall_where_their_comments_say_for_a_lamp_rated_at_2775_kelv
 
 def test_glow_classes_never_fall_as_temperature_rises():
     temperature = np.linspace(300.0, 3600.0, 2000)
-    rank = np.argmax(glow_class(temperature, RATED)[:, np.newaxis] == np.array(GLOW_CLASSES),
-                     axis=1)
+    rank = np.argmax(
+        glow_class(temperature, RATED)[:, np.newaxis] == np.array(GLOW_CLASSES), axis=1
+    )
     assert np.all(np.diff(rank) >= 0)
     assert set(rank) == set(range(len(GLOW_CLASSES)))
 

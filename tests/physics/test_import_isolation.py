@@ -15,32 +15,59 @@ PROBE = (
 
 
 def _modules_loaded_by_importing_shop_physics():
-    completed = subprocess.run([sys.executable, "-c", PROBE], cwd=ROOT, capture_output=True,
-                               text=True, check=True, env={"PYTHONPATH": str(ROOT)})
+    completed = subprocess.run(
+        [sys.executable, "-c", PROBE],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        check=True,
+        env={"PYTHONPATH": str(ROOT)},
+    )
     return completed.stdout.split()
 
 
 def test_importing_shop_physics_loads_no_django_module():
-    assert [name for name in _modules_loaded_by_importing_shop_physics()
-            if name.split(".")[0] in ("django", "rest_framework")] == []
+    assert [
+        name
+        for name in _modules_loaded_by_importing_shop_physics()
+        if name.split(".")[0] in ("django", "rest_framework")
+    ] == []
 
 
 def test_importing_shop_physics_loads_no_colour_science():
-    assert [name for name in _modules_loaded_by_importing_shop_physics()
-            if name.split(".")[0] == "colour"] == []
+    assert [
+        name
+        for name in _modules_loaded_by_importing_shop_physics()
+        if name.split(".")[0] == "colour"
+    ] == []
 
 
 def test_the_probe_sees_modules_it_is_asked_about():
     # Guard against a probe that can never fail: importing Django is seen.
-    completed = subprocess.run([sys.executable, "-c", "import django; " + PROBE], cwd=ROOT,
-                               capture_output=True, text=True, check=True,
-                               env={"PYTHONPATH": str(ROOT)})
+    completed = subprocess.run(
+        [sys.executable, "-c", "import django; " + PROBE],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        check=True,
+        env={"PYTHONPATH": str(ROOT)},
+    )
     assert "django" in completed.stdout.split()
 
 
 def test_shop_physics_answers_every_public_name_of_issue_3():
-    for name in ("Lamp", "LampBank", "ResistiveLoad", "solve_series", "glow_class",
-                 "glow_colour", "Reading", "judge", "advise_lamp", "data_fingerprint"):
+    for name in (
+        "Lamp",
+        "LampBank",
+        "ResistiveLoad",
+        "solve_series",
+        "glow_class",
+        "glow_colour",
+        "Reading",
+        "judge",
+        "advise_lamp",
+        "data_fingerprint",
+    ):
         assert hasattr(shop.physics, name), name
     assert shop.physics.PHYSICS_VERSION == "1.0.0"
     assert set(shop.physics.__all__) <= set(dir(shop.physics))

@@ -5,6 +5,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from shop.physics import judgement
+from shop.physics import scenarios as reference
 from shop.physics.judgement import (
     ALL_IN_BAND,
     BYPASS_WITHOUT_CURRENT,
@@ -23,7 +24,6 @@ from shop.physics.judgement import (
 )
 from shop.physics.lamp import Lamp
 from shop.physics.loads import ResistiveLoad
-from tests.physics import reference
 
 NOMINAL = 120.0  # [V] the rig's mains
 WINDINGS = 2.0  # [ohm]
@@ -36,13 +36,15 @@ TRUE_LAMP = reference.random_perturbed_lamp(LAMP, np.random.default_rng(3))
 
 
 def _readings(impedance, seed, *, lamp=TRUE_LAMP, steps=STEPS, **options):
-    return reference.readings(lamp, impedance, steps, np.random.default_rng(seed),
-                              source_resistance=WINDINGS, **options)
+    return reference.readings(
+        lamp, impedance, steps, np.random.default_rng(seed), source_resistance=WINDINGS, **options
+    )
 
 
 def _judge(readings, lamp=LAMP, load=DECLARED, **options):
-    return judge(lamp, load, readings, nominal_source_voltage=NOMINAL,
-                 source_resistance=WINDINGS, **options)
+    return judge(
+        lamp, load, readings, nominal_source_voltage=NOMINAL, source_resistance=WINDINGS, **options
+    )
 
 
 @pytest.mark.parametrize("power_factor, temperature_shift", CORNERS)
@@ -124,8 +126,9 @@ def test_a_lamp_too_large_for_the_load_is_inconclusive():
     big = Lamp(120.0, 300.0)
     true_big = reference.random_perturbed_lamp(big, np.random.default_rng(11))
     ten_watts = ResistiveLoad.from_rating(120.0, 10.0)
-    verdict = _judge(_readings(float(ten_watts.resistance), 12, lamp=true_big), lamp=big,
-                     load=ten_watts)
+    verdict = _judge(
+        _readings(float(ten_watts.resistance), 12, lamp=true_big), lamp=big, load=ten_watts
+    )
     assert verdict.outcome == "inconclusive"
     assert verdict.codes == (LAMP_TOO_LARGE,)
     assert "too large to tell a fault" in verdict.reasons[0].message
@@ -137,8 +140,10 @@ def test_a_test_that_stopped_short_of_full_source_is_inconclusive():
     assert verdict.outcome == "inconclusive"
     assert verdict.codes == (SOURCE_NOT_FULL,)
     highest = readings[-1].source_voltage
-    assert (f"{highest:.3g} V, {100 * highest / NOMINAL:.0f} % of the 120 V nominal; a pass "
-            "needs at least 90 % (108 V)") in verdict.reasons[0].message
+    assert (
+        f"{highest:.3g} V, {100 * highest / NOMINAL:.0f} % of the 120 V nominal; a pass "
+        "needs at least 90 % (108 V)"
+    ) in verdict.reasons[0].message
 
 
 def test_a_short_fails_even_before_full_source():
@@ -155,8 +160,7 @@ def test_a_cycling_glow_on_a_resistive_unit_is_marginal():
 def test_a_lamp_seen_bright_where_a_healthy_unit_keeps_it_faint_fails():
     readings = _readings(480.0, 16)
     assert readings[1].glow_seen in ("dark", "faint")  # what the true lamp showed at 60 V
-    readings[1] = Reading(readings[1].source_voltage, readings[1].load_voltage,
-                          glow_seen="bright")
+    readings[1] = Reading(readings[1].source_voltage, readings[1].load_voltage, glow_seen="bright")
     verdict = _judge(readings)
     assert verdict.outcome == "fail"
     assert verdict.codes == (GLOW_BRIGHT_UNEXPECTED,)
@@ -181,8 +185,9 @@ def test_a_bypassed_reading_is_judged_without_the_lamp():
     last = verdict.readings[-1]
     assert last.lamp_bypassed
     # Straight on the source through the windings: Vs R / (R + R_s), to the solver's 1e-12.
-    assert_allclose(last.predicted_load_voltage,
-                    readings[-1].source_voltage * 480.0 / 482.0, rtol=1e-12)
+    assert_allclose(
+        last.predicted_load_voltage, readings[-1].source_voltage * 480.0 / 482.0, rtol=1e-12
+    )
     assert verdict.outcome == "pass"
 
 
@@ -226,8 +231,11 @@ def test_every_band_holds_its_own_prediction():
 
 
 def test_every_reason_code_leads_to_an_outcome():
-    codes = {value for name, value in vars(judgement).items()
-             if name.isupper() and isinstance(value, str) and value in REASON_OUTCOMES}
+    codes = {
+        value
+        for name, value in vars(judgement).items()
+        if name.isupper() and isinstance(value, str) and value in REASON_OUTCOMES
+    }
     assert codes == set(REASON_OUTCOMES)
     assert set(REASON_OUTCOMES.values()) == set(OUTCOMES)
 
@@ -238,26 +246,37 @@ def test_the_settings_used_are_recorded_with_the_verdict():
     assert verdict.settings["full_source_fraction"] == judgement.FULL_SOURCE_FRACTION
 
 
-@pytest.mark.parametrize("fields, message", [
-    (dict(source_voltage=-1.0, load_voltage=0.0), "source_voltage must not be negative"),
-    (dict(source_voltage=np.nan, load_voltage=0.0), "source_voltage must be a finite number"),
-    (dict(source_voltage=10.0, load_voltage=5.0, current=-0.1), "current must not be negative"),
-    (dict(source_voltage=10.0, load_voltage=5.0, glow_seen="blinding"), "glow_seen must be one"),
-    (dict(source_voltage=10.0, load_voltage=5.0, behaviour_seen="flicker"),
-     "behaviour_seen must be one of steady, flash_then_dims, cycling"),
-    (dict(source_voltage=10.0, load_voltage=5.0, lamp_bypassed="yes"), "lamp_bypassed"),
-])
+@pytest.mark.parametrize(
+    "fields, message",
+    [
+        (dict(source_voltage=-1.0, load_voltage=0.0), "source_voltage must not be negative"),
+        (dict(source_voltage=np.nan, load_voltage=0.0), "source_voltage must be a finite number"),
+        (dict(source_voltage=10.0, load_voltage=5.0, current=-0.1), "current must not be negative"),
+        (
+            dict(source_voltage=10.0, load_voltage=5.0, glow_seen="blinding"),
+            "glow_seen must be one",
+        ),
+        (
+            dict(source_voltage=10.0, load_voltage=5.0, behaviour_seen="flicker"),
+            "behaviour_seen must be one of steady, flash_then_dims, cycling",
+        ),
+        (dict(source_voltage=10.0, load_voltage=5.0, lamp_bypassed="yes"), "lamp_bypassed"),
+    ],
+)
 def test_a_non_physical_reading_is_refused_by_name(fields, message):
     with pytest.raises(ValueError, match=message):
         Reading(**fields)
 
 
-@pytest.mark.parametrize("options, message", [
-    (dict(full_source_fraction=0.8), "full_source_fraction"),
-    (dict(load_tolerance=1.5), "load_tolerance"),
-    (dict(fail_draw_multiple=1.1), "fail_draw_multiple"),
-    (dict(meter_absolute_accuracy=-0.1), "meter_absolute_accuracy"),
-])
+@pytest.mark.parametrize(
+    "options, message",
+    [
+        (dict(full_source_fraction=0.8), "full_source_fraction"),
+        (dict(load_tolerance=1.5), "load_tolerance"),
+        (dict(fail_draw_multiple=1.1), "fail_draw_multiple"),
+        (dict(meter_absolute_accuracy=-0.1), "meter_absolute_accuracy"),
+    ],
+)
 def test_a_tolerance_out_of_range_is_refused_by_name(options, message):
     with pytest.raises(ValueError, match=message):
         _judge([Reading(120.0, 100.0)], **options)

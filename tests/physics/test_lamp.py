@@ -28,8 +28,14 @@ with open(DATA_DIRECTORY / "checks" / "lamp_reference.csv", newline="") as handl
     REFERENCE = {row["name"]: float(row["value"]) for row in csv.DictReader(handle)}
 
 # Lamps the laws are checked on: general-service gas-filled sizes, a vacuum lamp, a halogen.
-LAMPS = [(120.0, 40.0, "gas"), (120.0, 60.0, "gas"), (120.0, 100.0, "gas"),
-         (230.0, 60.0, "gas"), (120.0, 25.0, "vacuum"), (230.0, 100.0, "halogen")]
+LAMPS = [
+    (120.0, 40.0, "gas"),
+    (120.0, 60.0, "gas"),
+    (120.0, 100.0, "gas"),
+    (230.0, 60.0, "gas"),
+    (120.0, 25.0, "vacuum"),
+    (230.0, 100.0, "halogen"),
+]
 GAS_LAMPS = [spec for spec in LAMPS if spec[2] == "gas"]
 METHODS = ["current", "resistance", "filament_temperature", "power", "relative_light"]
 
@@ -75,8 +81,9 @@ def test_cold_resistance_is_a_tenth_to_a_seventeenth_of_hot(spec):
 
 def test_a_100_watt_120_volt_lamp_is_144_ohm_hot():
     # V^2 / P (DESIGN.md 7); exact arithmetic.
-    assert_allclose(Lamp(120.0, 100.0).hot_resistance, REFERENCE["hot_resistance_120v_100w"],
-                    rtol=1e-12)
+    assert_allclose(
+        Lamp(120.0, 100.0).hot_resistance, REFERENCE["hot_resistance_120v_100w"], rtol=1e-12
+    )
 
 
 def test_a_100_watt_120_volt_lamp_is_about_9_5_ohm_cold():
@@ -84,18 +91,21 @@ def test_a_100_watt_120_volt_lamp_is_about_9_5_ohm_cold():
     # value rests on the rated temperature (recalled to +/-10 K, 0.5 % in resistivity) and the
     # resistivity table, which differs from White & Minges by up to 6 % in rho(T_r)/rho(300 K):
     # allow 10 %.
-    assert_allclose(Lamp(120.0, 100.0).cold_resistance, REFERENCE["cold_resistance_120v_100w"],
-                    rtol=0.10)
+    assert_allclose(
+        Lamp(120.0, 100.0).cold_resistance, REFERENCE["cold_resistance_120v_100w"], rtol=0.10
+    )
 
 
 @pytest.mark.parametrize("spec", LAMPS, ids=str)
 def test_lamp_draws_its_rated_current_at_rated_voltage(spec):
     lamp = Lamp(*spec)
     # The loss is fixed by P_loss(T_r) = P_r, so only the solver's residual is left: 1e-9.
-    assert_allclose(lamp.current(lamp.rated_voltage), lamp.rated_power / lamp.rated_voltage,
-                    rtol=1e-9)
-    assert_allclose(lamp.filament_temperature(lamp.rated_voltage), lamp.rated_temperature,
-                    rtol=1e-9)
+    assert_allclose(
+        lamp.current(lamp.rated_voltage), lamp.rated_power / lamp.rated_voltage, rtol=1e-9
+    )
+    assert_allclose(
+        lamp.filament_temperature(lamp.rated_voltage), lamp.rated_temperature, rtol=1e-9
+    )
     assert_allclose(lamp.power(lamp.rated_voltage), lamp.rated_power, rtol=1e-9)
 
 
@@ -163,7 +173,8 @@ def test_radiation_only_lamp_loses_sigma_area_emissivity_times_t4_difference():
     lamp = Lamp(120.0, 60.0, conduction_fraction=0.0)
     temperature = np.array([500.0, 1000.0, 2000.0, 3000.0, 3600.0])
     area = lamp.power_loss(temperature) / (
-        constants.Stefan_Boltzmann * tungsten_emissivity(temperature) * (temperature**4 - 300.0**4))
+        constants.Stefan_Boltzmann * tungsten_emissivity(temperature) * (temperature**4 - 300.0**4)
+    )
     # Same arithmetic in another order: rounding only.
     assert_allclose(area, lamp.radiation_area, rtol=1e-12)
 
@@ -187,8 +198,12 @@ def test_gas_conduction_grows_as_langmuirs_conduction_potential():
     scale = lamp.radiation_area / radiation_only.radiation_area
     conduction = lamp.power_loss(temperature) - scale * radiation_only.power_loss(temperature)
     exponent = CONDUCTION_EXPONENT["gas"]
-    expected = (0.2 * 60.0 * (temperature**exponent - 300.0**exponent)
-                / (lamp.rated_temperature**exponent - 300.0**exponent))
+    expected = (
+        0.2
+        * 60.0
+        * (temperature**exponent - 300.0**exponent)
+        / (lamp.rated_temperature**exponent - 300.0**exponent)
+    )
     # A difference of two losses, so a few ulps of the larger term: 1e-9.
     assert_allclose(conduction, expected, rtol=1e-9)
 
@@ -198,8 +213,12 @@ def test_conduction_carries_most_of_the_loss_of_a_gas_lamp_at_a_dull_glow():
     # loses far more to the gas than it radiates (Langmuir 1912; the radiated share follows
     # from eps(1000 K) = 0.12 against 0.31 at rating and T^4).
     lamp = Lamp(120.0, 60.0)
-    radiation = (lamp.radiation_area * constants.Stefan_Boltzmann * tungsten_emissivity(1000.0)
-                 * (1000.0**4 - 300.0**4))
+    radiation = (
+        lamp.radiation_area
+        * constants.Stefan_Boltzmann
+        * tungsten_emissivity(1000.0)
+        * (1000.0**4 - 300.0**4)
+    )
     assert radiation / lamp.power_loss(1000.0) < 0.2
 
 
@@ -213,8 +232,7 @@ def test_default_rated_temperature_of_gas_lamps_lies_in_the_quoted_range(power, 
 
 
 def test_default_rated_temperature_rises_with_wattage_and_holds_beyond_the_table():
-    temperatures = [default_rated_temperature(power) for power in (15.0, 40.0, 75.0, 100.0,
-                                                                   300.0)]
+    temperatures = [default_rated_temperature(power) for power in (15.0, 40.0, 75.0, 100.0, 300.0)]
     assert temperatures == sorted(temperatures)
     assert temperatures[0] == temperatures[1] and temperatures[3] == temperatures[4]
 
@@ -222,20 +240,29 @@ def test_default_rated_temperature_rises_with_wattage_and_holds_beyond_the_table
 def test_default_rated_temperature_of_halogen_lies_in_the_quoted_range():
     # Issue 3 and DESIGN.md 7: mains halogen lamps about 2900-3100 K.
     temperature = Lamp(230.0, 100.0, "halogen").rated_temperature
-    assert REFERENCE["rated_temperature_halogen_low"] <= temperature \
+    assert (
+        REFERENCE["rated_temperature_halogen_low"]
+        <= temperature
         <= REFERENCE["rated_temperature_halogen_high"]
+    )
 
 
 def test_vacuum_lamp_runs_cooler_than_a_gas_lamp_and_halogen_hotter():
-    assert Lamp(120.0, 40.0, "vacuum").rated_temperature < Lamp(120.0, 40.0).rated_temperature \
+    assert (
+        Lamp(120.0, 40.0, "vacuum").rated_temperature
+        < Lamp(120.0, 40.0).rated_temperature
         < Lamp(120.0, 40.0, "halogen").rated_temperature
+    )
 
 
 def test_cold_resistance_fixes_the_rated_temperature():
     lamp = Lamp(120.0, 60.0, cold_resistance=16.0)
     # rho(T_r) / rho(T_amb) = R_h / R_cold, solved with Newton steps on the table: 1e-10.
-    assert_allclose(tungsten_resistivity(lamp.rated_temperature) / tungsten_resistivity(300.0),
-                    lamp.hot_resistance / 16.0, rtol=1e-10)
+    assert_allclose(
+        tungsten_resistivity(lamp.rated_temperature) / tungsten_resistivity(300.0),
+        lamp.hot_resistance / 16.0,
+        rtol=1e-10,
+    )
     assert_allclose(lamp.cold_resistance, 16.0, rtol=1e-10)
 
 
@@ -249,20 +276,25 @@ def test_cold_resistance_round_trips_to_the_rated_temperature():
 def test_warmer_ambient_raises_the_cold_resistance_by_the_resistivity_ratio():
     cool, warm = Lamp(120.0, 60.0), Lamp(120.0, 60.0, ambient_temperature=320.0)
     # Same rated point; the cold filament is just warmer. Arithmetic only: 1e-12.
-    assert_allclose(warm.cold_resistance / cool.cold_resistance,
-                    tungsten_resistivity(320.0) / tungsten_resistivity(300.0), rtol=1e-12)
+    assert_allclose(
+        warm.cold_resistance / cool.cold_resistance,
+        tungsten_resistivity(320.0) / tungsten_resistivity(300.0),
+        rtol=1e-12,
+    )
 
 
 @pytest.mark.parametrize(
     ("cold_resistance", "implied"),
     [(50.0, "of 1073 K"), (5.0, "above 3600 K"), (300.0, "below 300 K")],
 )
-def test_cold_resistance_implying_a_rated_temperature_out_of_range_is_refused(cold_resistance,
-                                                                             implied):
+def test_cold_resistance_implying_a_rated_temperature_out_of_range_is_refused(
+    cold_resistance, implied
+):
     # 240 ohm hot: 50 ohm cold is a ratio of 4.8, 5 ohm beyond the table, 300 ohm colder than
     # the bench.
-    with pytest.raises(ValueError, match=f"cold_resistance .* implies a rated filament "
-                                         f"temperature {implied}"):
+    with pytest.raises(
+        ValueError, match=f"cold_resistance .* implies a rated filament temperature {implied}"
+    ):
         Lamp(120.0, 60.0, cold_resistance=cold_resistance)
 
 
@@ -293,8 +325,7 @@ def test_curve_agrees_with_the_solver_and_is_built_once():
 
 def test_max_voltage_is_where_the_filament_reaches_3600_kelvin():
     lamp = Lamp(120.0, 100.0)
-    assert_allclose(lamp.filament_temperature(lamp.max_voltage), TABLE_MAX_TEMPERATURE,
-                    rtol=1e-12)
+    assert_allclose(lamp.filament_temperature(lamp.max_voltage), TABLE_MAX_TEMPERATURE, rtol=1e-12)
     with pytest.raises(ValueError, match="voltage must not exceed .* V, where the filament"):
         lamp.current(lamp.max_voltage * 1.001)
 
@@ -304,8 +335,11 @@ def test_relative_light_is_one_at_rated_voltage_and_follows_luminance():
     assert_allclose(lamp.relative_light(120.0), 1.0, rtol=1e-8)
     temperature = lamp.filament_temperature(80.0)
     # Fixed filament area: light scales with luminance; same arithmetic, rounding only.
-    assert_allclose(lamp.relative_light(80.0),
-                    luminance(temperature) / luminance(lamp.rated_temperature), rtol=1e-12)
+    assert_allclose(
+        lamp.relative_light(80.0),
+        luminance(temperature) / luminance(lamp.rated_temperature),
+        rtol=1e-12,
+    )
 
 
 def test_glow_runs_from_dark_at_zero_volts_to_bright_at_rating():

@@ -28,8 +28,9 @@ def test_a_60_and_100_watt_bank_draws_the_sum_of_their_currents():
     bank = LampBank([small, large])
     voltage = sweep(bank)
     # Parallel lamps see the same voltage; the currents add. Only rounding of the sum differs.
-    assert_allclose(bank.current(voltage), small.current(voltage) + large.current(voltage),
-                    rtol=1e-15)
+    assert_allclose(
+        bank.current(voltage), small.current(voltage) + large.current(voltage), rtol=1e-15
+    )
     assert_allclose(bank.rated_power, 160.0, rtol=0)
     assert_allclose(bank.current(120.0), 160.0 / 120.0, rtol=1e-9)
 
@@ -41,13 +42,18 @@ def test_a_bank_of_one_behaves_as_the_lamp():
     assert_array_equal(bank.glow(voltage), lamp.glow(voltage))
     for method in METHODS[:-1]:
         # The bank sums and inverts where the lamp divides once: a few ulps.
-        assert_allclose(getattr(bank, method)(voltage), getattr(lamp, method)(voltage),
-                        rtol=1e-14)
+        assert_allclose(getattr(bank, method)(voltage), getattr(lamp, method)(voltage), rtol=1e-14)
     assert (bank.rated_voltage, bank.rated_power, bank.max_voltage) == (
-        lamp.rated_voltage, lamp.rated_power, lamp.max_voltage)
+        lamp.rated_voltage,
+        lamp.rated_power,
+        lamp.max_voltage,
+    )
     # Reciprocal of a reciprocal: rounding only.
-    assert_allclose([bank.hot_resistance, bank.cold_resistance],
-                    [lamp.hot_resistance, lamp.cold_resistance], rtol=1e-15)
+    assert_allclose(
+        [bank.hot_resistance, bank.cold_resistance],
+        [lamp.hot_resistance, lamp.cold_resistance],
+        rtol=1e-15,
+    )
     curve = bank.curve()
     assert_allclose(curve.voltage, lamp.curve().voltage, rtol=1e-15)
     # The bank solves at the lamp's grid voltages; the lamp's curve was computed from T: 1e-10.

@@ -23,8 +23,7 @@ VOLTAGES = np.geomspace(1.2, 132.0, 12)
 
 
 def true_lamp():
-    return Lamp(120.0, 60.0, rated_temperature=TRUE_TEMPERATURE,
-                conduction_fraction=TRUE_FRACTION)
+    return Lamp(120.0, 60.0, rated_temperature=TRUE_TEMPERATURE, conduction_fraction=TRUE_FRACTION)
 
 
 def noisy_points(seed, voltages=VOLTAGES):
@@ -103,8 +102,13 @@ def test_fit_takes_points_as_a_list_of_pairs_or_an_array():
 @pytest.mark.parametrize("fill", FILLS)
 def test_every_lamp_the_fit_may_try_reaches_the_highest_accepted_voltage(fill):
     # The corner of the search (hottest rating, most conduction) reaches least far.
-    corner = Lamp(120.0, 60.0, fill=fill, rated_temperature=RATED_TEMPERATURE_RANGE[1],
-                  conduction_fraction=FIT_CONDUCTION_FRACTION_RANGE[1])
+    corner = Lamp(
+        120.0,
+        60.0,
+        fill=fill,
+        rated_temperature=RATED_TEMPERATURE_RANGE[1],
+        conduction_fraction=FIT_CONDUCTION_FRACTION_RANGE[1],
+    )
     assert corner.max_voltage >= FIT_MAX_VOLTAGE_RATIO * 120.0
 
 

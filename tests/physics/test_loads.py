@@ -9,8 +9,9 @@ from numpy.testing import assert_allclose
 
 from shop.physics.loads import Load, ResistiveLoad
 
-TRADE_FACTS = Path(__file__).resolve().parents[2] / "fixtures" / "physics" / "checks" / (
-    "trade_facts.csv")
+TRADE_FACTS = (
+    Path(__file__).resolve().parents[2] / "fixtures" / "physics" / "checks" / ("trade_facts.csv")
+)
 
 
 def _resistor_facts():
@@ -38,10 +39,12 @@ def test_from_rating_gives_v_squared_over_p():
 def test_resistor_stands_in_for_the_unit_the_trade_says(fact):
     # Common practice, no source (fixtures/physics/checks/trade_facts.csv): "about" 30 W and
     # 100 W; Ohm's law gives 28.8 W and 96 W, inside the 5 % the word "about" allows.
-    load = ResistiveLoad(float(fact["load_resistance"]), rated_voltage=float(
-        fact["source_voltage"]))
-    assert_allclose(load.rated_power, float(fact["expected"]),
-                    rtol=float(fact["relative_tolerance"]))
+    load = ResistiveLoad(
+        float(fact["load_resistance"]), rated_voltage=float(fact["source_voltage"])
+    )
+    assert_allclose(
+        load.rated_power, float(fact["expected"]), rtol=float(fact["relative_tolerance"])
+    )
 
 
 def test_impedance_is_the_resistance_whatever_the_current_or_frequency():

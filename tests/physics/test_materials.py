@@ -25,12 +25,19 @@ from shop.physics.materials import (
 CHECKS = DATA_DIRECTORY / "checks"
 with open(CHECKS / "materials_reference.csv", newline="") as handle:
     REFERENCE = {row["name"]: float(row["value"]) for row in csv.DictReader(handle)}
-RESISTIVITY_TABLE = np.loadtxt(DATA_DIRECTORY / "tungsten_resistivity.csv", delimiter=",",
-                               skiprows=1)
-WHITE_MINGES = np.loadtxt(CHECKS / "tungsten_resistivity_white_minges.csv", delimiter=",",
-                          skiprows=1)
-FUNCTIONS = [tungsten_resistivity, tungsten_resistivity_derivative, tungsten_emissivity,
-             tungsten_emissivity_derivative, tungsten_heat_capacity]
+RESISTIVITY_TABLE = np.loadtxt(
+    DATA_DIRECTORY / "tungsten_resistivity.csv", delimiter=",", skiprows=1
+)
+WHITE_MINGES = np.loadtxt(
+    CHECKS / "tungsten_resistivity_white_minges.csv", delimiter=",", skiprows=1
+)
+FUNCTIONS = [
+    tungsten_resistivity,
+    tungsten_resistivity_derivative,
+    tungsten_emissivity,
+    tungsten_emissivity_derivative,
+    tungsten_heat_capacity,
+]
 
 
 def test_resistivity_table_spans_300_to_3600_kelvin_in_100_kelvin_steps():
@@ -61,8 +68,9 @@ def test_resistivity_rises_strictly_between_table_rows():
 def test_resistivity_derivative_matches_a_central_difference():
     temperature = np.array([350.0, 1234.5, 2860.0, 3550.0])
     step = 1e-3
-    difference = (tungsten_resistivity(temperature + step)
-                  - tungsten_resistivity(temperature - step)) / (2 * step)
+    difference = (
+        tungsten_resistivity(temperature + step) - tungsten_resistivity(temperature - step)
+    ) / (2 * step)
     # The step is small against the 100 K rows, so the difference is good to about 1e-6.
     assert_allclose(tungsten_resistivity_derivative(temperature), difference, rtol=1e-6)
 
@@ -93,8 +101,7 @@ def test_emissivity_at_300_kelvin_is_the_constant_of_the_fit():
 
 def test_emissivity_derivative_matches_a_central_difference():
     temperature = np.array([400.0, 1800.0, 3500.0])
-    difference = (tungsten_emissivity(temperature + 0.5)
-                  - tungsten_emissivity(temperature - 0.5))
+    difference = tungsten_emissivity(temperature + 0.5) - tungsten_emissivity(temperature - 0.5)
     # Exact for a quadratic up to rounding.
     assert_allclose(tungsten_emissivity_derivative(temperature), difference, rtol=1e-8)
 
