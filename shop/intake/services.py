@@ -13,6 +13,7 @@ from django.utils import timezone
 
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.roles import TECHNICIAN, has_role, user_roles
+from shop.core.services import create_validated, only_fields
 from shop.core.versioning import check_version, versioned_update
 
 from .models import (
@@ -60,42 +61,30 @@ JOB_FIELDS = (
 HASH_CHUNK = 1 << 20
 
 
-def _create(model, fields: dict):
-    instance = model(**fields)
-    instance.full_clean()
-    instance.save()
-    return instance
-
-
 @transaction.atomic
 def customer_create(*, name: str, phone: str = "", email: str = "", notes: str = "") -> Customer:
-    return _create(Customer, {"name": name, "phone": phone, "email": email, "notes": notes})
+    return create_validated(
+        Customer, {"name": name, "phone": phone, "email": email, "notes": notes}
+    )
 
 
 @transaction.atomic
 def customer_update(*, customer: Customer, expected_version: int | None, **changes) -> Customer:
     return versioned_update(
-        customer, expected=expected_version, changes=_only(changes, CUSTOMER_FIELDS)
+        customer, expected=expected_version, changes=only_fields(changes, CUSTOMER_FIELDS)
     )
 
 
 @transaction.atomic
 def unit_create(**fields) -> Unit:
-    return _create(Unit, _only(fields, UNIT_FIELDS))
+    return create_validated(Unit, only_fields(fields, UNIT_FIELDS))
 
 
 @transaction.atomic
 def unit_update(*, unit: Unit, expected_version: int | None, **changes) -> Unit:
-    return versioned_update(unit, expected=expected_version, changes=_only(changes, UNIT_FIELDS))
-
-
-def _only(fields: dict, allowed: tuple[str, ...]) -> dict:
-    unknown = set(fields) - set(allowed)
-    if unknown:
-        raise ApplicationError(
-            f"Unknown field(s): {', '.join(sorted(unknown))}.", field=sorted(unknown)[0]
-        )
-    return fields
+    return versioned_update(
+        unit, expected=expected_version, changes=only_fields(changes, UNIT_FIELDS)
+    )
 
 
 def _check_technician(user) -> None:
@@ -127,7 +116,7 @@ def job_number_allocate(*, year: int) -> str:
 def job_create(*, unit: Unit, complaint: str, received_on: date | None = None, **fields) -> Job:
     """Open a job for a unit and give it the next number of its intake year."""
     received_on = received_on or timezone.localdate()
-    _only(fields, JOB_FIELDS)
+    only_fields(fields, JOB_FIELDS)
     _check_technician(fields.get("assigned_technician"))
     job = Job(unit=unit, complaint=complaint, received_on=received_on, **fields)
     job.number = "pending"
@@ -139,7 +128,7 @@ def job_create(*, unit: Unit, complaint: str, received_on: date | None = None, *
 
 @transaction.atomic
 def job_update(*, job: Job, expected_version: int | None, **changes) -> Job:
-    _only(changes, JOB_FIELDS)
+    only_fields(changes, JOB_FIELDS)
     if "assigned_technician" in changes:
         _check_technician(changes["assigned_technician"])
     return versioned_update(job, expected=expected_version, changes=changes)
