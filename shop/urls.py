@@ -16,4 +16,5 @@ urlpatterns = [
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
     path("api/", include("shop.intake.urls")),
+    path("api/", include("shop.bench.urls")),
 ]

@@ -142,7 +142,7 @@ class JobViewSet(VersionedModelViewSet):
         return self.versioned_response(moved)
 
     @extend_schema(responses={200: JobMoveSerializer(many=True), **ERROR_RESPONSES})
-    @action(detail=True, methods=["get"], pagination_class=None, filterset_class=None)
+    @action(detail=True, methods=["get"], pagination_class=None, filter_backends=[])
     def moves(self, request, pk=None):
         moves = selectors.job_moves(job=self.get_object())
         return Response(JobMoveSerializer(moves, many=True).data)

@@ -1,9 +1,10 @@
-"""Independent readings for the judgement tests: scalar brentq solves, perturbed lamps, meter noise.
+"""Independent power-up readings: scalar brentq solves, perturbed lamps, seeded meter noise.
 
-Nothing here uses ``shop.physics.circuit``: the operating point is found point by point with
-``scipy.optimize.brentq`` (the filament temperature inside the circuit), from the lamp's own
-physical model (``resistance_at_temperature`` and ``power_loss``), so the judgement is tested
-against readings it did not produce.
+Used by the judgement tests and by the demo shop. Nothing here uses ``shop.physics.circuit``:
+the operating point is found point by point with ``scipy.optimize.brentq`` (the filament
+temperature inside the circuit), from the lamp's own physical model
+(``resistance_at_temperature`` and ``power_loss``), so the judgement is always tried on
+readings it did not produce.
 """
 
 import numpy as np
@@ -68,10 +69,10 @@ def filament_temperature(lamp, voltage):
 
     def balance(temperature):
         return voltage**2 / lamp.resistance_at_temperature(temperature) - lamp.power_loss(
-            temperature)
+            temperature
+        )
 
-    return brentq(balance, lamp.ambient_temperature, TABLE_MAX_TEMPERATURE, xtol=1e-12,
-                  rtol=1e-15)
+    return brentq(balance, lamp.ambient_temperature, TABLE_MAX_TEMPERATURE, xtol=1e-12, rtol=1e-15)
 
 
 def lamp_current(lamp, voltage):
@@ -81,8 +82,7 @@ def lamp_current(lamp, voltage):
     return voltage / float(lamp.resistance_at_temperature(filament_temperature(lamp, voltage)))
 
 
-def operating_point(lamp, impedance, source_voltage, source_resistance=0.0,
-                    lamp_bypassed=False):
+def operating_point(lamp, impedance, source_voltage, source_resistance=0.0, lamp_bypassed=False):
     """Unit volts [V], current [A] and lamp volts [V] for a unit of fixed complex impedance.
 
     brentq over the lamp voltage of ``|V_lamp + I (R_s + Z)| = V_s`` (phasors; the lamp is a
@@ -107,15 +107,22 @@ def operating_point(lamp, impedance, source_voltage, source_resistance=0.0,
 
 def perturbed_lamp(lamp, power_factor, temperature_shift):
     """The lamp that "really" sat in the rig: rated power and rated temperature moved."""
-    return Lamp(lamp.rated_voltage, lamp.rated_power * power_factor, fill=lamp.fill,
-                rated_temperature=lamp.rated_temperature + temperature_shift,
-                ambient_temperature=lamp.ambient_temperature)
+    return Lamp(
+        lamp.rated_voltage,
+        lamp.rated_power * power_factor,
+        fill=lamp.fill,
+        rated_temperature=lamp.rated_temperature + temperature_shift,
+        ambient_temperature=lamp.ambient_temperature,
+    )
 
 
 def random_perturbed_lamp(lamp, rng):
     """A lamp drawn uniformly within +/-POWER_SPREAD and +/-TEMPERATURE_SPREAD of ``lamp``."""
-    return perturbed_lamp(lamp, 1.0 + rng.uniform(-POWER_SPREAD, POWER_SPREAD),
-                          rng.uniform(-TEMPERATURE_SPREAD, TEMPERATURE_SPREAD))
+    return perturbed_lamp(
+        lamp,
+        1.0 + rng.uniform(-POWER_SPREAD, POWER_SPREAD),
+        rng.uniform(-TEMPERATURE_SPREAD, TEMPERATURE_SPREAD),
+    )
 
 
 def _meter_reading(value, accuracy, rng):
@@ -123,8 +130,18 @@ def _meter_reading(value, accuracy, rng):
     return max(value + float(np.clip(rng.normal(0.0, limit / 2), -limit, limit)), 0.0)
 
 
-def readings(lamp, impedance, steps, rng, *, source_resistance=0.0, with_current=False,
-             bypassed_steps=(), behaviour="steady", glow_seen=True):
+def readings(
+    lamp,
+    impedance,
+    steps,
+    rng,
+    *,
+    source_resistance=0.0,
+    with_current=False,
+    bypassed_steps=(),
+    behaviour="steady",
+    glow_seen=True,
+):
     """Readings of a unit of ``impedance`` [ohm] through ``lamp`` at each source step [V].
 
     Source and unit volts (and current, if ``with_current``) carry seeded meter noise; the
@@ -135,16 +152,19 @@ def readings(lamp, impedance, steps, rng, *, source_resistance=0.0, with_current
     for source in steps:
         bypassed = source in bypassed_steps
         load_voltage, current, lamp_voltage = operating_point(
-            lamp, impedance, source, source_resistance, lamp_bypassed=bypassed)
+            lamp, impedance, source, source_resistance, lamp_bypassed=bypassed
+        )
         glow = str(lamp.glow(lamp_voltage)) if glow_seen and not bypassed else None
-        taken.append(Reading(
-            source_voltage=_meter_reading(source, METER, rng),
-            load_voltage=_meter_reading(load_voltage, METER, rng),
-            current=_meter_reading(current, AMMETER, rng) if with_current else None,
-            glow_seen=glow,
-            behaviour_seen=None if bypassed else behaviour,
-            lamp_bypassed=bypassed,
-            seconds_held=10.0,
-            seconds_since_switch_on=5.0,
-        ))
+        taken.append(
+            Reading(
+                source_voltage=_meter_reading(source, METER, rng),
+                load_voltage=_meter_reading(load_voltage, METER, rng),
+                current=_meter_reading(current, AMMETER, rng) if with_current else None,
+                glow_seen=glow,
+                behaviour_seen=None if bypassed else behaviour,
+                lamp_bypassed=bypassed,
+                seconds_held=10.0,
+                seconds_since_switch_on=5.0,
+            )
+        )
     return taken

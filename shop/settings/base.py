@@ -48,6 +48,7 @@ INSTALLED_APPS = [
     "drf_spectacular_sidecar",
     "shop.core",
     "shop.intake",
+    "shop.bench",
     "reports",
 ]
 
@@ -130,6 +131,8 @@ if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
 
 # Largest evidence upload accepted, in bytes.
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
+# Most readings one CSV import may carry (separate from the upload size limit).
+READINGS_CSV_MAX_ROWS = int(os.environ.get("READINGS_CSV_MAX_ROWS", "10000"))
 DATA_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 FILE_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 

@@ -7,6 +7,7 @@ from io import StringIO
 from django.contrib.auth.models import User
 from django.core.management import call_command
 
+from shop.bench.models import PowerUpTest, Verdict
 from shop.core.roles import ROLES
 from shop.intake.models import Customer, Job, JobState, RepairStep, Unit
 
@@ -22,6 +23,17 @@ def test_demo_shop_loads_every_state_and_role(db):
     assert User.objects.filter(groups__name="technician").count() == 3
     assert "password" in out.getvalue()
     assert Unit.objects.filter(construction="transformerless").exists()
+
+
+def test_demo_bench_has_closed_tests_in_every_outcome(db):
+    call_command("demo_load", stdout=StringIO())
+    assert PowerUpTest.objects.filter(status="closed").count() == 7
+    assert set(Verdict.objects.values_list("outcome", flat=True)) == {
+        "pass",
+        "marginal",
+        "fail",
+        "inconclusive",
+    }
 
 
 def test_loading_twice_adds_nothing(db):

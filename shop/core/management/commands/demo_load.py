@@ -12,6 +12,7 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 from django.utils import timezone
 
+from shop.bench.demo import load_demo_bench
 from shop.intake import services
 from shop.intake.models import Customer
 
@@ -29,11 +30,16 @@ class Command(BaseCommand):
         if Customer.objects.exists():
             self.stdout.write("Demo records already present; staff accounts refreshed only.")
         else:
-            self.load_records(data, staff)
+            bench = json.loads((DEMO_DIR / "bench.json").read_text())
+            with transaction.atomic():
+                units = self.load_records(data, staff)
+                tests = load_demo_bench(bench, staff, units)
             self.stdout.write(
                 f"Loaded {len(data['customers'])} customers, {len(data['units'])} units, "
-                f"{len(data['jobs'])} jobs."
+                f"{len(data['jobs'])} jobs, {len(bench['rigs'])} rigs and "
+                f"{len(tests)} closed power-up tests:"
             )
+            self.stdout.write("\n".join(tests))
         self.stdout.write("Demo staff (local use only):")
         for person in data["staff"]:
             self.stdout.write(
@@ -52,8 +58,7 @@ class Command(BaseCommand):
             staff[person["username"]] = user
         return staff
 
-    @transaction.atomic
-    def load_records(self, data: dict, staff: dict[str, User]) -> None:
+    def load_records(self, data: dict, staff: dict[str, User]) -> dict:
         lead = next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
         customers = {}
         for entry in data["customers"]:
@@ -84,3 +89,4 @@ class Command(BaseCommand):
                 job = services.job_transition(
                     job=job, to_state=target, actor=lead, approved_by="Customer, by phone"
                 )
+        return units

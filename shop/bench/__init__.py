@@ -1,0 +1,1 @@
+"""The bench: limiter rigs, lamps, instruments, power-up tests, readings and verdicts."""

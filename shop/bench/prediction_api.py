@@ -1,0 +1,124 @@
+"""Request and answer shapes of the stateless prediction and of lamp advice."""
+
+from __future__ import annotations
+
+from rest_framework import serializers
+
+from .declared_load import validated_document
+from .models import Lamp, LampBank, LampFill, LampTechnology, Rig
+from .prediction import MAX_SWEEP_POINTS
+
+
+class LampSpecSerializer(serializers.Serializer):
+    """A lamp given by its numbers (no record needed)."""
+
+    technology = serializers.ChoiceField(choices=LampTechnology.choices)
+    rated_voltage = serializers.FloatField(min_value=6, max_value=300)
+    rated_power = serializers.FloatField(min_value=1, max_value=2000)
+    fill = serializers.ChoiceField(choices=LampFill.choices, default=LampFill.GAS)
+    cold_resistance = serializers.FloatField(required=False, min_value=0.01, max_value=10000)
+
+
+class RigSpecSerializer(serializers.Serializer):
+    """A rig given by its numbers."""
+
+    mains_voltage = serializers.FloatField(min_value=90, max_value=260)
+    mains_frequency = serializers.ChoiceField(choices=[50, 60])
+    internal_resistance = serializers.FloatField(min_value=0, max_value=50, default=2.0)
+    output_at_full_dial = serializers.FloatField(required=False, min_value=1, max_value=300)
+
+
+class PredictionRequestSerializer(serializers.Serializer):
+    """Lamp (numbers, `lamp_id` or `bank_id`), rig (numbers or `rig_id`), declared load, sweep."""
+
+    lamp = LampSpecSerializer(required=False)
+    lamp_id = serializers.PrimaryKeyRelatedField(queryset=Lamp.objects.all(), required=False)
+    bank_id = serializers.PrimaryKeyRelatedField(queryset=LampBank.objects.all(), required=False)
+    rig = RigSpecSerializer(required=False)
+    rig_id = serializers.PrimaryKeyRelatedField(queryset=Rig.objects.all(), required=False)
+    declared_load = serializers.JSONField()
+    source_voltages = serializers.ListField(
+        child=serializers.FloatField(min_value=0, max_value=300),
+        required=False,
+        min_length=1,
+        max_length=MAX_SWEEP_POINTS,
+    )
+    points = serializers.IntegerField(
+        required=False, min_value=2, max_value=MAX_SWEEP_POINTS, default=25
+    )
+    ambient_temperature = serializers.FloatField(
+        required=False, min_value=250, max_value=330, default=300.0
+    )
+
+    def validate(self, attrs):
+        limiters = [name for name in ("lamp", "lamp_id", "bank_id") if name in attrs]
+        if len(limiters) != 1:
+            raise serializers.ValidationError(
+                {"lamp": "Give exactly one of lamp (numbers), lamp_id or bank_id."}
+            )
+        rigs = [name for name in ("rig", "rig_id") if name in attrs]
+        if len(rigs) != 1:
+            raise serializers.ValidationError({"rig": "Give exactly one of rig or rig_id."})
+        attrs["declared_load"] = validated_document(attrs["declared_load"])
+        return attrs
+
+
+class FaultCapSerializer(serializers.Serializer):
+    source_voltage = serializers.FloatField()
+    current = serializers.FloatField()
+    lamp_power = serializers.FloatField()
+    glow = serializers.CharField()
+    sentence = serializers.CharField()
+
+
+class CaveatSerializer(serializers.Serializer):
+    code = serializers.CharField()
+    text = serializers.CharField()
+
+
+class PredictionSerializer(serializers.Serializer):
+    """Curves of a healthy unit over the sweep, its band, the fault cap and the caveats."""
+
+    source_voltage = serializers.ListField(child=serializers.FloatField())
+    load_voltage = serializers.ListField(child=serializers.FloatField())
+    load_voltage_low = serializers.ListField(child=serializers.FloatField())
+    load_voltage_high = serializers.ListField(child=serializers.FloatField())
+    current = serializers.ListField(child=serializers.FloatField())
+    lamp_voltage = serializers.ListField(child=serializers.FloatField())
+    lamp_power = serializers.ListField(child=serializers.FloatField())
+    load_power = serializers.ListField(child=serializers.FloatField())
+    filament_temperature = serializers.ListField(child=serializers.FloatField())
+    glow = serializers.ListField(child=serializers.CharField())
+    sensitivity = serializers.ListField(child=serializers.FloatField())
+    fault_current_cap = FaultCapSerializer()
+    tolerances = serializers.DictField(child=serializers.FloatField())
+    model = serializers.DictField()
+    advice = serializers.ListField(child=serializers.DictField(), required=False)
+    warnings = serializers.ListField(child=serializers.CharField())
+    caveats = CaveatSerializer(many=True)
+
+
+class AdviceEntrySerializer(serializers.Serializer):
+    rank = serializers.IntegerField()
+    label = serializers.CharField()
+    lamp_id = serializers.IntegerField(allow_null=True)
+    bank_id = serializers.IntegerField(allow_null=True)
+    suitability = serializers.CharField()
+    fault_current = serializers.FloatField()
+    load_voltage = serializers.FloatField()
+    load_fraction = serializers.FloatField()
+    sensitivity = serializers.FloatField()
+    meter_uncertainty = serializers.FloatField()
+    lamp_glow = serializers.CharField()
+    reason = serializers.CharField()
+
+
+class AdviceSerializer(serializers.Serializer):
+    """Lamps of a rig ranked for a unit's declared load."""
+
+    unit = serializers.IntegerField()
+    rig = serializers.IntegerField()
+    source_voltage = serializers.FloatField()
+    declared_load = serializers.DictField()
+    advice = AdviceEntrySerializer(many=True)
+    caveats = CaveatSerializer(many=True)

@@ -1,0 +1,418 @@
+"""Writes for the bench: rigs, lamps, instruments, power-up tests, readings and verdicts."""
+
+from __future__ import annotations
+
+from datetime import date
+
+from django.db import transaction
+from django.utils import timezone
+
+from shop.core.errors import ApplicationError, Conflict, Forbidden
+from shop.core.roles import LEAD, has_role
+from shop.core.services import create_validated, only_fields
+from shop.core.versioning import check_version, versioned_update
+from shop.intake.models import Job, JobState
+from shop.physics.lamp import Lamp as PhysicsLamp
+from shop.physics.meters import fit_meter_correction
+
+from . import judging
+from .declared_load import nameplate_document, validated_document
+from .models import (
+    REFUSED_TECHNOLOGIES,
+    CalibrationRecord,
+    Instrument,
+    Lamp,
+    LampBank,
+    PowerUpTest,
+    Reading,
+    Rig,
+    TestStatus,
+)
+from .physics_inputs import lamp_parameters
+
+INSTRUMENT_FIELDS = (
+    "kind",
+    "response",
+    "maker",
+    "model_name",
+    "serial",
+    "accuracy_percent",
+    "accuracy_counts",
+    "resolution",
+)
+RIG_FIELDS = (
+    "name",
+    "mains_voltage",
+    "mains_frequency",
+    "source_kind",
+    "output_at_full_dial",
+    "source_current_rating",
+    "isolation_transformer",
+    "isolation_rating",
+    "internal_resistance",
+    "internal_resistance_measured",
+    "builtin_meter",
+)
+LAMP_FIELDS = (
+    "label",
+    "technology",
+    "rated_voltage",
+    "rated_power",
+    "fill",
+    "cold_resistance",
+    "calibration_points",
+)
+TEST_FIELDS = (
+    "declared_load",
+    "ambient_temperature",
+    "source_meter",
+    "load_meter",
+    "current_meter",
+    "notes",
+)
+# Jobs in these states are not on the bench: no power-up test may be opened for them.
+CLOSED_JOB_STATES = frozenset({JobState.RETURNED, JobState.DECLINED})
+# A reading's source volts may exceed the rig's full output by this factor (meter spread).
+SOURCE_HEADROOM = 1.10
+# Unit volts may exceed source volts only by meter spread: this fraction plus this many volts.
+LOAD_OVER_SOURCE_FRACTION = 0.05
+LOAD_OVER_SOURCE_VOLTS = 2.0
+MAX_READING_CURRENT = 50.0  # [A]
+MAX_READINGS_PER_TEST = 10_000
+
+
+# Instruments -------------------------------------------------------------------------------
+
+
+@transaction.atomic
+def instrument_create(**fields) -> Instrument:
+    return create_validated(Instrument, only_fields(fields, INSTRUMENT_FIELDS))
+
+
+@transaction.atomic
+def instrument_update(
+    *, instrument: Instrument, expected_version: int | None, **changes
+) -> Instrument:
+    return versioned_update(
+        instrument, expected=expected_version, changes=only_fields(changes, INSTRUMENT_FIELDS)
+    )
+
+
+@transaction.atomic
+def calibration_record_add(
+    *,
+    instrument: Instrument,
+    calibrated_on: date,
+    due_on: date,
+    reference: str,
+    recorded_by,
+    paired_readings=(),
+) -> CalibrationRecord:
+    """Record a calibration or meter check; with paired readings, fit and keep a correction."""
+    if due_on <= calibrated_on:
+        raise ApplicationError("The due date must be after the calibration date.", field="due_on")
+    pairs = [dict(pair) for pair in paired_readings]
+    fields = {}
+    if pairs:
+        try:
+            correction = fit_meter_correction(
+                [p["reference"] for p in pairs], [p["indicated"] for p in pairs]
+            )
+        except ValueError as exc:
+            raise ApplicationError(f"Paired readings: {exc}.", field="paired_readings") from exc
+        fields = {
+            "correction_gain": correction.gain,
+            "correction_offset": correction.offset,
+            "largest_residual": correction.largest_residual,
+        }
+    return create_validated(
+        CalibrationRecord,
+        {
+            "instrument": instrument,
+            "calibrated_on": calibrated_on,
+            "due_on": due_on,
+            "reference": reference,
+            "paired_readings": pairs,
+            "recorded_by": recorded_by,
+            **fields,
+        },
+    )
+
+
+# Rigs and lamps ----------------------------------------------------------------------------
+
+
+@transaction.atomic
+def rig_create(**fields) -> Rig:
+    return create_validated(Rig, only_fields(fields, RIG_FIELDS))
+
+
+@transaction.atomic
+def rig_update(*, rig: Rig, expected_version: int | None, **changes) -> Rig:
+    return versioned_update(
+        rig, expected=expected_version, changes=only_fields(changes, RIG_FIELDS)
+    )
+
+
+def _check_technology(technology: str) -> None:
+    if technology in REFUSED_TECHNOLOGIES:
+        raise ApplicationError(
+            f"Refused: {REFUSED_TECHNOLOGIES[technology]}. Use a tungsten or halogen "
+            "incandescent lamp as a series limiter.",
+            field="technology",
+            code="lamp_does_not_limit",
+        )
+
+
+def _calibrate(lamp: Lamp) -> None:
+    """Fit the lamp model to its measured points or cold resistance, or check its rating."""
+    parameters = lamp_parameters(lamp)
+    parameters.pop("label")
+    for name in ("rated_temperature", "conduction_fraction"):
+        parameters.pop(name, None)
+    points = [(p["voltage"], p["current"]) for p in lamp.calibration_points] or None
+    field = "calibration_points" if points else "cold_resistance"
+    try:
+        if points or lamp.cold_resistance is not None:
+            fit = PhysicsLamp.fit(
+                parameters["rated_voltage"],
+                parameters["rated_power"],
+                points=points,
+                cold_resistance=parameters.get("cold_resistance"),
+                fill=parameters["fill"],
+            )
+            lamp.fitted_rated_temperature = float(fit.rated_temperature)
+            lamp.fitted_conduction_fraction = float(fit.conduction_fraction)
+            lamp.fit_rms_residual = float(fit.rms_residual)
+        else:
+            field = "rated_voltage"
+            PhysicsLamp(**parameters)
+            lamp.fitted_rated_temperature = lamp.fitted_conduction_fraction = None
+            lamp.fit_rms_residual = None
+    except ValueError as exc:
+        raise ApplicationError(f"The lamp model refuses this lamp: {exc}.", field=field) from exc
+
+
+@transaction.atomic
+def lamp_create(**fields) -> Lamp:
+    _check_technology(fields.get("technology", ""))
+    lamp = Lamp(**only_fields(fields, ("rig", *LAMP_FIELDS)))
+    lamp.full_clean()
+    _calibrate(lamp)
+    lamp.save()
+    return lamp
+
+
+@transaction.atomic
+def lamp_update(*, lamp: Lamp, expected_version: int | None, **changes) -> Lamp:
+    only_fields(changes, LAMP_FIELDS)
+    if "technology" in changes:
+        _check_technology(changes["technology"])
+    locked = Lamp.objects.select_for_update().get(pk=lamp.pk)
+    check_version(locked, expected_version)
+    for name, value in changes.items():
+        setattr(locked, name, value)
+    _calibrate(locked)
+    fitted = ("fitted_rated_temperature", "fitted_conduction_fraction", "fit_rms_residual")
+    return versioned_update(
+        locked, expected=None, changes={**changes, **{f: getattr(locked, f) for f in fitted}}
+    )
+
+
+@transaction.atomic
+def bank_create(*, rig: Rig, label: str, lamps: list[Lamp]) -> LampBank:
+    if len(lamps) < 2:
+        raise ApplicationError("A bank needs at least two lamps.", field="lamps")
+    strangers = [lamp.label for lamp in lamps if lamp.rig_id != rig.pk]
+    if strangers:
+        raise ApplicationError(f"Not on rig {rig.name}: {', '.join(strangers)}.", field="lamps")
+    bank = create_validated(LampBank, {"rig": rig, "label": label})
+    bank.lamps.set(lamps)
+    return bank
+
+
+# Power-up tests ----------------------------------------------------------------------------
+
+
+def _rating_warnings(rig: Rig, document: dict) -> list[str]:
+    """Warn when the declared draw is beyond what the rig's source or isolation can carry."""
+    power = document["parameters"].get("power")
+    if power is None:
+        return []
+    voltage = float(rig.mains_voltage)
+    warnings = []
+    current = power / voltage
+    if current > float(rig.source_current_rating):
+        warnings.append(
+            f"The declared {power:g} W draws about {current:.2f} A at {voltage:g} V, above the "
+            f"source's {float(rig.source_current_rating):g} A rating."
+        )
+    if rig.isolation_transformer and rig.isolation_rating and power > float(rig.isolation_rating):
+        warnings.append(
+            f"The declared {power:g} W is above the isolation transformer's "
+            f"{float(rig.isolation_rating):g} VA rating."
+        )
+    return warnings
+
+
+def _check_limiter(rig: Rig, lamp: Lamp | None, bank: LampBank | None) -> None:
+    if (lamp is None) == (bank is None):
+        raise ApplicationError("Choose either one lamp or one bank.", field="lamp")
+    owner = lamp.rig_id if lamp is not None else bank.rig_id
+    if owner != rig.pk:
+        raise ApplicationError(
+            f"That {'lamp' if lamp else 'bank'} is not on rig {rig.name}.",
+            field="lamp" if lamp else "bank",
+        )
+    if lamp is not None:
+        _check_technology(lamp.technology)
+
+
+@transaction.atomic
+def powerup_open(
+    *,
+    job: Job,
+    rig: Rig,
+    technician,
+    lamp: Lamp | None = None,
+    bank: LampBank | None = None,
+    declared_load: dict | None = None,
+    live_chassis_override: str = "",
+    **fields,
+) -> PowerUpTest:
+    """Open a power-up test; a live-chassis unit needs isolation or a lead's stated reason."""
+    only_fields(
+        fields, ("ambient_temperature", "source_meter", "load_meter", "current_meter", "notes")
+    )
+    job = Job.objects.select_for_update().select_related("unit").get(pk=job.pk)
+    if job.state in CLOSED_JOB_STATES:
+        raise Conflict(
+            f"Job {job.number} is {job.state}; no power-up test can be opened.",
+            field="job",
+            code="job_closed",
+        )
+    _check_limiter(rig, lamp, bank)
+    override_by = None
+    if job.unit.chassis_may_be_live and not rig.isolation_transformer:
+        if not live_chassis_override.strip():
+            raise Conflict(
+                f"The unit's chassis may be live ({job.unit.get_construction_display()}) and rig "
+                f"{rig.name} has no isolation transformer. Use an isolated rig, or a lead may "
+                "override with a stated reason (live_chassis_override).",
+                field="rig",
+                code="isolation_required",
+            )
+        if not has_role(technician, LEAD):
+            raise Forbidden(
+                "Only a lead may override the isolation rule.", field="live_chassis_override"
+            )
+        override_by = technician
+    document = (
+        validated_document(declared_load)
+        if declared_load is not None
+        else nameplate_document(job.unit)
+    )
+    test = PowerUpTest(
+        job=job,
+        rig=rig,
+        lamp=lamp,
+        bank=bank,
+        technician=technician,
+        declared_load=document,
+        live_chassis_override=live_chassis_override,
+        override_by=override_by,
+        warnings=_rating_warnings(rig, document),
+        **fields,
+    )
+    test.full_clean()
+    test.save()
+    return test
+
+
+def _lock_open(test: PowerUpTest, expected_version: int | None = None) -> PowerUpTest:
+    locked = PowerUpTest.objects.select_for_update().get(pk=test.pk)
+    if locked.status != TestStatus.OPEN:
+        raise Conflict("This test is closed; a correction is a new test.", code="test_closed")
+    check_version(locked, expected_version)
+    return locked
+
+
+@transaction.atomic
+def powerup_update(*, test: PowerUpTest, expected_version: int | None, **changes) -> PowerUpTest:
+    locked = _lock_open(test, expected_version)
+    only_fields(changes, TEST_FIELDS)
+    if "declared_load" in changes:
+        changes["declared_load"] = validated_document(changes["declared_load"])
+        changes["warnings"] = _rating_warnings(locked.rig, changes["declared_load"])
+    return versioned_update(locked, expected=None, changes=changes)
+
+
+def _reading_from(test: PowerUpTest, sequence: int, data: dict, field_prefix: str) -> Reading:
+    rig = test.rig
+    data = dict(data)
+    dial = data.get("dial_percent")
+    if data.get("source_voltage") is None:
+        if dial is None:
+            raise ApplicationError(
+                "Give source_voltage, or dial_percent on a rig with an output-at-100 % figure.",
+                field=f"{field_prefix}source_voltage",
+            )
+        if rig.output_at_full_dial is None:
+            raise ApplicationError(
+                f"Rig {rig.name} has no output-at-100 % figure; give source_voltage instead.",
+                field=f"{field_prefix}dial_percent",
+            )
+        data["source_voltage"] = float(rig.output_at_full_dial) * dial / 100
+    limit = rig.full_source_voltage * SOURCE_HEADROOM
+    if data["source_voltage"] > limit:
+        raise ApplicationError(
+            f"{data['source_voltage']:g} V is beyond what rig {rig.name} can give "
+            f"({rig.full_source_voltage:g} V at full source).",
+            field=f"{field_prefix}source_voltage",
+        )
+    ceiling = data["source_voltage"] * (1 + LOAD_OVER_SOURCE_FRACTION) + LOAD_OVER_SOURCE_VOLTS
+    if data["load_voltage"] > ceiling:
+        raise ApplicationError(
+            f"The unit cannot read {data['load_voltage']:g} V when the source gives "
+            f"{data['source_voltage']:g} V: check which meter is which.",
+            field=f"{field_prefix}load_voltage",
+        )
+    reading = Reading(test=test, sequence=sequence, **data)
+    reading.full_clean(exclude=["test"])
+    return reading
+
+
+@transaction.atomic
+def readings_add(
+    *, test: PowerUpTest, readings: list[dict], field_prefix: str = "readings.{index}."
+) -> list[Reading]:
+    """Add readings to an open test, all or none; sequences follow the last one taken."""
+    locked = _lock_open(test)
+    last = locked.readings.order_by("-sequence").values_list("sequence", flat=True).first() or 0
+    if last + len(readings) > MAX_READINGS_PER_TEST:
+        raise ApplicationError(
+            f"A test holds at most {MAX_READINGS_PER_TEST} readings.", field="readings"
+        )
+    built = [
+        _reading_from(locked, last + index + 1, data, field_prefix.format(index=index))
+        for index, data in enumerate(readings)
+    ]
+    Reading.objects.bulk_create(built)
+    return built
+
+
+@transaction.atomic
+def powerup_close(*, test: PowerUpTest, actor, expected_version: int | None = None):
+    """Judge the readings and store the verdict; the test and its readings never change again."""
+    locked = _lock_open(test, expected_version)
+    readings = list(locked.readings.order_by("sequence"))
+    if not readings:
+        raise Conflict("A test with no readings cannot be closed.", code="no_readings")
+    inputs = judging.verdict_inputs(locked, readings)
+    verdict = judging.store_verdict(locked, inputs)
+    versioned_update(
+        locked,
+        expected=None,
+        changes={"status": TestStatus.CLOSED, "closed_at": timezone.now(), "closed_by": actor},
+    )
+    return verdict

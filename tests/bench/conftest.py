@@ -1,0 +1,132 @@
+"""Bench fixtures: an isolated 120 V rig and a bare one, lamps, a bank, meters, an open test."""
+
+from __future__ import annotations
+
+from datetime import timedelta
+from decimal import Decimal
+
+import pytest
+from django.utils import timezone
+
+from shop.bench import services
+from shop.intake import services as intake
+from shop.intake.models import JobState
+
+
+@pytest.fixture
+def meter(staff):
+    instrument = services.instrument_create(
+        kind="multimeter",
+        response="true_rms",
+        maker="Corvid",
+        model_name="TM-9",
+        serial="C9-001",
+        accuracy_percent=Decimal("0.8"),
+        accuracy_counts=3,
+        resolution=Decimal("0.1"),
+    )
+    today = timezone.localdate()
+    services.calibration_record_add(
+        instrument=instrument,
+        calibrated_on=today - timedelta(30),
+        due_on=today + timedelta(300),
+        reference="Shop standard",
+        recorded_by=staff["lead"],
+    )
+    return instrument
+
+
+@pytest.fixture
+def overdue_meter(staff):
+    instrument = services.instrument_create(
+        kind="voltmeter",
+        response="average_responding",
+        maker="Pellow",
+        model_name="AV-2",
+        accuracy_percent=Decimal("2"),
+        accuracy_counts=2,
+        resolution=Decimal("1"),
+    )
+    today = timezone.localdate()
+    services.calibration_record_add(
+        instrument=instrument,
+        calibrated_on=today - timedelta(500),
+        due_on=today - timedelta(135),
+        reference="Shop standard",
+        recorded_by=staff["lead"],
+    )
+    return instrument
+
+
+@pytest.fixture
+def rig(db):
+    return services.rig_create(
+        name="Bench A 120 V",
+        mains_voltage=Decimal("120"),
+        mains_frequency=60,
+        source_kind="variable_autotransformer",
+        output_at_full_dial=Decimal("130"),
+        source_current_rating=Decimal("3"),
+        isolation_transformer=True,
+        isolation_rating=Decimal("300"),
+        internal_resistance=Decimal("2.0"),
+    )
+
+
+@pytest.fixture
+def bare_rig(db):
+    return services.rig_create(
+        name="Bench B no isolation",
+        mains_voltage=Decimal("120"),
+        mains_frequency=60,
+        source_kind="fixed_mains",
+        source_current_rating=Decimal("10"),
+        isolation_transformer=False,
+        internal_resistance=Decimal("0.5"),
+    )
+
+
+def make_lamp(rig, watts: int, **extra):
+    return services.lamp_create(
+        rig=rig,
+        label=f"{watts} W clear",
+        technology="tungsten",
+        rated_voltage=Decimal("120"),
+        rated_power=Decimal(watts),
+        **extra,
+    )
+
+
+@pytest.fixture
+def lamps(rig):
+    return {w: make_lamp(rig, w) for w in (25, 40, 60, 100, 150)}
+
+
+@pytest.fixture
+def testing_job(job, staff):
+    for target in (
+        JobState.DIAGNOSING,
+        JobState.AWAITING_APPROVAL,
+        JobState.REPAIRING,
+        JobState.TESTING,
+    ):
+        job = intake.job_transition(
+            job=job, to_state=target, actor=staff["lead"], approved_by="Orla by phone"
+        )
+    return job
+
+
+@pytest.fixture
+def open_test(testing_job, rig, lamps, staff, meter):
+    return services.powerup_open(
+        job=testing_job,
+        rig=rig,
+        lamp=lamps[60],
+        technician=staff["technician"],
+        declared_load={
+            "kind": "resistive",
+            "parameters": {"power": 60, "voltage": 120},
+            "basis": "nameplate",
+        },
+        load_meter=meter,
+    )

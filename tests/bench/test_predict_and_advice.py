@@ -1,0 +1,87 @@
+"""The stateless prediction and lamp advice endpoints."""
+
+from __future__ import annotations
+
+import pytest
+
+from shop.core.safety import CAVEATS
+
+SPEC = {
+    "lamp": {"technology": "tungsten", "rated_voltage": 120, "rated_power": 60},
+    "rig": {"mains_voltage": 120, "mains_frequency": 60, "internal_resistance": 2.0},
+    "declared_load": {"kind": "resistive", "parameters": {"resistance": 500}, "basis": "estimate"},
+}
+
+
+def test_prediction_answers_curves_fault_cap_and_every_caveat(client_for, db):
+    response = client_for("front_desk").post("/api/predict/", {**SPEC, "points": 13}, format="json")
+    assert response.status_code == 200, response.content
+    body = response.json()
+    assert len(body["load_voltage"]) == 13
+    assert body["source_voltage"][-1] == 120
+    # Common practice, no source: ~93 V (within about 10 %) on a 500 ohm unit through a 60 W lamp.
+    assert 93 * 0.9 <= body["load_voltage"][-1] <= 93 * 1.1
+    assert all(
+        lo <= mid <= hi
+        for lo, mid, hi in zip(
+            body["load_voltage_low"], body["load_voltage"], body["load_voltage_high"]
+        )
+    )
+    assert 0.4 < body["fault_current_cap"]["current"] < 0.5  # a 60 W 120 V lamp: 0.5 A at rating
+    assert {c["code"] for c in body["caveats"]} >= {code for code, _ in CAVEATS}
+
+
+def test_prediction_over_a_stored_lamp_and_rig_includes_advice(client_for, rig, lamps):
+    body = {
+        "lamp_id": lamps[60].pk,
+        "rig_id": rig.pk,
+        "declared_load": SPEC["declared_load"],
+        "source_voltages": [30, 60, 90, 120],
+    }
+    response = client_for("technician").post("/api/predict/", body, format="json")
+    assert response.status_code == 200, response.content
+    assert len(response.json()["advice"]) == len(lamps)
+
+
+@pytest.mark.parametrize(
+    ("change", "field"),
+    [
+        ({"lamp": {**SPEC["lamp"], "technology": "led"}}, "lamp.technology"),
+        ({"lamp": {**SPEC["lamp"], "rated_power": -60}}, "lamp.rated_power"),
+        ({"lamp": {**SPEC["lamp"], "rated_voltage": "NaN"}}, "lamp.rated_voltage"),
+        ({"rig": {**SPEC["rig"], "mains_voltage": 10000}}, "rig.mains_voltage"),
+        ({"source_voltages": [10, 10000]}, "source_voltages.1"),
+        ({"source_voltages": [10, 200]}, "source_voltages"),
+        (
+            {"declared_load": {"kind": "resistive", "parameters": {}, "basis": "estimate"}},
+            "declared_load.parameters.power",
+        ),
+    ],
+)
+def test_prediction_refuses_what_is_not_physics_by_field(client_for, db, change, field):
+    response = client_for("technician").post("/api/predict/", {**SPEC, **change}, format="json")
+    assert response.status_code == 400
+    assert field in response.json()["error"]["fields"]
+
+
+def test_prediction_is_closed_to_anonymous_callers(client_for, db):
+    assert client_for(None).post("/api/predict/", SPEC, format="json").status_code == 401
+
+
+def test_lamp_advice_ranks_every_lamp_and_bank_of_the_rig(client_for, unit, rig, lamps):
+    from shop.bench import services
+
+    services.bank_create(rig=rig, label="2 x 60 W", lamps=[lamps[60], lamps[40]])
+    response = client_for("technician").get(f"/api/units/{unit.pk}/lamp-advice/?rig={rig.pk}")
+    assert response.status_code == 200, response.content
+    advice = response.json()["advice"]
+    assert [entry["rank"] for entry in advice] == list(range(1, len(lamps) + 2))
+    assert sum(entry["bank_id"] is not None for entry in advice) == 1
+    assert all(entry["reason"] for entry in advice)
+    assert response.json()["caveats"]
+
+
+def test_lamp_advice_needs_a_rig(client_for, unit):
+    response = client_for("technician").get(f"/api/units/{unit.pk}/lamp-advice/")
+    assert response.status_code == 400
+    assert response.json()["error"]["field"] == "rig"
