@@ -29,6 +29,7 @@ serve: install
 
 bench: install
 	$(BIN)/python bench/physics_bench.py
+	$(BIN)/python bench/service_bench.py
 
 lint: install
 	$(BIN)/ruff check .

@@ -70,6 +70,12 @@ def _resistivity_interpolator():
 
 
 @cache
+def _resistivity_slope_interpolator():
+    # Built once: PchipInterpolator.derivative() makes a new piecewise polynomial every call.
+    return _resistivity_interpolator().derivative()
+
+
+@cache
 def _emissivity_coefficients():
     table = _read_table(EMISSIVITY_FILE)
     coefficients = np.zeros(int(table[:, 0].max()) + 1)
@@ -133,7 +139,7 @@ def tungsten_resistivity_derivative(temperature):
         d(resistivity)/dT, shaped like ``temperature`` [ohm m / K]
     """
     values = _check_temperature(temperature)
-    return _resistivity_interpolator().derivative()(values)
+    return _resistivity_slope_interpolator()(values)
 
 
 def tungsten_emissivity(temperature):
