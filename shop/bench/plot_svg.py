@@ -9,8 +9,8 @@ from __future__ import annotations
 import math
 import xml.etree.ElementTree as ET
 
-WIDTH, HEIGHT = 640, 420
-LEFT, RIGHT, TOP, BOTTOM = 64, 20, 36, 92
+WIDTH, HEIGHT = 640, 440
+LEFT, RIGHT, TOP, BOTTOM = 64, 20, 36, 112
 # Status -> (shape, colour, legend words). Shapes differ so that colour is never needed.
 MARKERS = {
     "in_band": ("circle", "#1a6b3a", "in band"),
@@ -179,7 +179,13 @@ def render_svg(*, prediction: dict, readings: list[dict], title: str) -> str:
         _marker(legend, shape, x + 6, y + 14, colour)
         ET.SubElement(legend, "text", x=str(x + 16), y=str(y + 18)).text = words
         x += 30 + 6 * len(words)
-    ET.SubElement(
-        legend, "text", x=str(LEFT), y=str(y + 36), **{"class": "fault-cap"}
-    ).text = prediction["fault_current_cap"]["sentence"]
+    cap = prediction["fault_current_cap"]
+    lines = (
+        f"Fault-current cap: a dead short in the unit would draw at most {cap['current']:.3f} A",
+        f"at {cap['source_voltage']:g} V through this lamp, which would then glow {cap['glow']}.",
+    )
+    for offset, line in zip((36, 50), lines):
+        ET.SubElement(
+            legend, "text", x=str(LEFT), y=str(y + offset), **{"class": "fault-cap"}
+        ).text = line
     return ET.tostring(svg, encoding="unicode")
