@@ -290,12 +290,11 @@ def _caveats(snapshot: dict, width: float) -> list:
 
 
 def qr_code(value: str, size: float) -> Drawing:
-    """A QR code of `value`, `size` points square."""
-    widget = QrCodeWidget(value, barLevel="M")
-    left, bottom, right, top = widget.getBounds()
-    drawing = Drawing(size, size, transform=[size / (right - left), 0, 0,
-                                             size / (top - bottom), 0, 0])
-    drawing.add(widget)
+    """A QR code of `value`, `size` points square (quiet border included)."""
+    # Sized through barWidth/barHeight rather than scaled to getBounds(), which would encode
+    # the value a second time: encoding is most of the certificate's rendering time.
+    drawing = Drawing(size, size)
+    drawing.add(QrCodeWidget(value, barLevel="M", barWidth=size, barHeight=size))
     return drawing
 
 

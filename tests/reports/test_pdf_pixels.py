@@ -115,3 +115,17 @@ def test_no_ink_reaches_the_side_margins_with_long_names_and_forty_readings(pdft
         margin = int(MARGIN * SCALE) - 1
         assert page[:, width - margin:].min() >= CLEAR_LEVEL
         assert page[:, :margin].min() >= CLEAR_LEVEL
+
+
+def test_the_qr_code_reads_back_as_the_verification_address(pdftoppm, tmp_path):
+    zbarimg = shutil.which("zbarimg")
+    if zbarimg is None:
+        pytest.skip("zbarimg is missing (optional): apt-get install -y zbar-tools")
+    snapshot = certificate_snapshot()
+    source = tmp_path / "certificate.pdf"
+    source.write_bytes(render_certificate(snapshot))
+    subprocess.run([pdftoppm, "-r", "200", "-png", str(source), str(tmp_path / "page")],
+                   check=True)
+    found = subprocess.run([zbarimg, "--raw", "-q", *map(str, tmp_path.glob("page-*.png"))],
+                           capture_output=True, text=True)
+    assert found.stdout.split() == [snapshot["certificate"]["verification_url"]]
