@@ -30,6 +30,7 @@ serve: install
 bench: install
 	$(BIN)/python bench/physics_bench.py
 	$(BIN)/python bench/service_bench.py
+	$(BIN)/python bench/report_bench.py
 
 lint: install
 	$(BIN)/ruff check .

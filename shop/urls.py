@@ -4,6 +4,7 @@ from django.contrib import admin
 from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 
+from reports.urls import api_urlpatterns, public_urlpatterns
 from shop.core.auth_views import TokenObtainView
 
 handler404 = "shop.core.errors.json_not_found"
@@ -17,4 +18,6 @@ urlpatterns = [
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
     path("api/", include("shop.intake.urls")),
     path("api/", include("shop.bench.urls")),
+    path("api/", include(api_urlpatterns)),
+    *public_urlpatterns,
 ]

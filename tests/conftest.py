@@ -14,6 +14,9 @@ from shop.core.roles import FRONT_DESK, LEAD, TECHNICIAN
 from shop.intake import services
 from shop.intake.models import Construction
 
+# Bench fixtures (rigs, lamps, meters, open tests) serve the bench and reports tests alike.
+pytest_plugins = ["tests.fixtures_bench"]
+
 ROLE_USERNAMES = {FRONT_DESK: "desk_dana", TECHNICIAN: "tech_theo", LEAD: "lead_lena"}
 
 

@@ -36,11 +36,25 @@ LABEL_WIDTH = 24 * mm
 # Fractions of the text width for the readings table: #, source, unit, current, glow, band,
 # draw, status.
 READING_COLUMNS = (0.04, 0.09, 0.09, 0.115, 0.13, 0.13, 0.13, 0.275)
-READING_HEADER = ["#", "Source voltage", "Voltage at the unit", "Current", "Glow seen",
-                  "Predicted healthy band", "Inferred draw (x declared load)", "Status"]
+READING_HEADER = [
+    "#",
+    "Source voltage",
+    "Voltage at the unit",
+    "Current",
+    "Glow seen",
+    "Predicted healthy band",
+    "Inferred draw (x declared load)",
+    "Status",
+]
 INSTRUMENT_COLUMNS = (0.22, 0.15, 0.12, 0.19, 0.14, 0.18)
-INSTRUMENT_HEADER = ["Instrument", "Used as", "Response", "Accuracy", "Calibration due",
-                     "Calibration state"]
+INSTRUMENT_HEADER = [
+    "Instrument",
+    "Used as",
+    "Response",
+    "Accuracy",
+    "Calibration due",
+    "Calibration state",
+]
 WORK_COLUMNS = (0.13, 0.36, 0.29, 0.14, 0.08)
 WORK_HEADER = ["Date", "Work done", "Parts", "By", "Time"]
 
@@ -55,12 +69,18 @@ def render_certificate(snapshot: dict) -> bytes:
     certificate = snapshot["certificate"]
     unit = snapshot["unit"]
     tests = snapshot["tests"]
-    story = [_header(snapshot, width), Paragraph(TITLE, STYLES["title"]),
-             Paragraph(SCOPE, STYLES["subtitle"])]
+    story = [
+        _header(snapshot, width),
+        Paragraph(TITLE, STYLES["title"]),
+        Paragraph(SCOPE, STYLES["subtitle"]),
+    ]
     if certificate.get("supersedes"):
-        story.append(Paragraph(
-            f"This certificate supersedes certificate {text(certificate['supersedes'])}.",
-            STYLES["body"]))
+        story.append(
+            Paragraph(
+                f"This certificate supersedes certificate {text(certificate['supersedes'])}.",
+                STYLES["body"],
+            )
+        )
     if unit.get("chassis_may_be_live") or snapshot.get("live_chassis_note"):
         story += [live_chassis_box(snapshot.get("live_chassis_note"), width), Spacer(1, 6)]
     story.append(Paragraph("Outcome", STYLES["heading"]))
@@ -72,19 +92,26 @@ def render_certificate(snapshot: dict) -> bytes:
     story += _caveats(snapshot, width)
     story.append(_sign_off(snapshot, width))
     return build_pdf(
-        story, paper_size=paper, title=f"{TITLE} {certificate['number']}",
-        subject=f"{SCOPE} Unit: {fmt.unit_name(unit)}.", author=snapshot["shop"]["name"],
+        story,
+        paper_size=paper,
+        title=f"{TITLE} {certificate['number']}",
+        subject=f"{SCOPE} Unit: {fmt.unit_name(unit)}.",
+        author=snapshot["shop"]["name"],
         footer=FOOTER.format(number=certificate["number"]),
     )
 
 
 def _header(snapshot: dict, width: float) -> Table:
     certificate = snapshot["certificate"]
-    return shop_header(snapshot["shop"], [
-        f"<b>Certificate {text(certificate['number'])}</b>",
-        f"Issued {fmt.moment(certificate['issued_at'])}",
-        f"by {text(certificate.get('issued_by'))}",
-    ], width)
+    return shop_header(
+        snapshot["shop"],
+        [
+            f"<b>Certificate {text(certificate['number'])}</b>",
+            f"Issued {fmt.moment(certificate['issued_at'])}",
+            f"by {text(certificate.get('issued_by'))}",
+        ],
+        width,
+    )
 
 
 def _test_name(test: dict, index: int, count: int) -> str:
@@ -94,16 +121,27 @@ def _test_name(test: dict, index: int, count: int) -> str:
 
 def _outcome(test: dict, index: int, count: int, width: float) -> Table:
     colour = OUTCOME_COLOURS.get(test["outcome"], WARNING)
-    left = [Paragraph(f'<font color="{colour.hexval()}">{text(test["outcome"]).upper()}</font>',
-                      STYLES["outcome"]),
-            Paragraph(OUTCOME_SCOPE, STYLES["muted"])]
-    right = [Paragraph(f"<b>{text(_test_name(test, index, count))}.</b> "
-                       f"{text(test['outcome_words'])}", STYLES["body"])]
-    right += [Paragraph(text(_sentence(reason["message"])), STYLES["list"], bulletText="\u2022")
-              for reason in test["reasons"]]
+    left = [
+        Paragraph(
+            f'<font color="{colour.hexval()}">{text(test["outcome"]).upper()}</font>',
+            STYLES["outcome"],
+        ),
+        Paragraph(OUTCOME_SCOPE, STYLES["muted"]),
+    ]
+    right = [
+        Paragraph(
+            f"<b>{text(_test_name(test, index, count))}.</b> {text(test['outcome_words'])}",
+            STYLES["body"],
+        )
+    ]
+    right += [
+        Paragraph(text(_sentence(reason["message"])), STYLES["list"], bulletText="\u2022")
+        for reason in test["reasons"]
+    ]
     inner = Table([[left, right]], colWidths=[width * 0.24, width * 0.76 - 14])
-    inner.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
-                               ("LEFTPADDING", (0, 0), (-1, -1), 0)]))
+    inner.setStyle(
+        TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"), ("LEFTPADDING", (0, 0), (-1, -1), 0)])
+    )
     return boxed([inner], width, colour)
 
 
@@ -132,15 +170,30 @@ def _unit_and_job(snapshot: dict, width: float) -> Table:
         ("Received", fmt.day(job.get("received_on"))),
         ("Complaint", text(job.get("complaint"))),
     ]
-    table = Table([[
-        [Paragraph("The unit", STYLES["subheading"]),
-         key_value_table(unit_rows, half, LABEL_WIDTH)],
-        [Paragraph("Customer and job", STYLES["subheading"]),
-         key_value_table(job_rows, half, LABEL_WIDTH)],
-    ]], colWidths=[half + 8 * mm, half])
-    table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
-                               ("LEFTPADDING", (0, 0), (-1, -1), 0),
-                               ("RIGHTPADDING", (0, 0), (-1, -1), 0)]))
+    table = Table(
+        [
+            [
+                [
+                    Paragraph("The unit", STYLES["subheading"]),
+                    key_value_table(unit_rows, half, LABEL_WIDTH),
+                ],
+                [
+                    Paragraph("Customer and job", STYLES["subheading"]),
+                    key_value_table(job_rows, half, LABEL_WIDTH),
+                ],
+            ]
+        ],
+        colWidths=[half + 8 * mm, half],
+    )
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 0),
+            ]
+        )
+    )
     return table
 
 
@@ -159,14 +212,17 @@ def _parts(parts: list[dict]) -> str:
 def _work_done(steps: list[dict], width: float) -> list:
     heading = Paragraph("Work done", STYLES["heading"])
     if not steps:
-        return [heading, Paragraph("No repair steps were recorded for this job.",
-                                   STYLES["body"])]
-    rows = [[Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
-             Paragraph(text(step.get("action")), STYLES["cell"]),
-             Paragraph(_parts(step.get("parts") or []), STYLES["cell"]),
-             Paragraph(text(step.get("technician")), STYLES["cell"]),
-             f"{step['minutes']} min" if step.get("minutes") is not None else ""]
-            for step in steps]
+        return [heading, Paragraph("No repair steps were recorded for this job.", STYLES["body"])]
+    rows = [
+        [
+            Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
+            Paragraph(text(step.get("action")), STYLES["cell"]),
+            Paragraph(_parts(step.get("parts") or []), STYLES["cell"]),
+            Paragraph(text(step.get("technician")), STYLES["cell"]),
+            f"{step['minutes']} min" if step.get("minutes") is not None else "",
+        ]
+        for step in steps
+    ]
     return [heading, data_table(WORK_HEADER, rows, [width * f for f in WORK_COLUMNS])]
 
 
@@ -189,37 +245,55 @@ def _set_up(test: dict, width: float) -> list:
         ("Technician", text(test.get("technician"))),
         ("Test run", f"{fmt.moment(test['started_at'])} to {fmt.moment(test['closed_at'])}"),
         ("Rig", text(rig.get("name"))),
-        ("Mains", text(", ".join(v for v in (rig.get("mains_voltage"),
-                                              rig.get("mains_frequency")) if v))),
+        (
+            "Mains",
+            text(", ".join(v for v in (rig.get("mains_voltage"), rig.get("mains_frequency")) if v)),
+        ),
         ("Source", text(rig.get("source"))),
         ("Isolation", text(rig.get("isolation"))),
         ("Rig resistance", text(rig.get("internal_resistance"))),
         ("Series lamp", f"{text(limiter.get('label'))}: {text(limiter.get('description'))}"),
-        ("Declared load", f"{text(load.get('summary'))}; basis: {text(load.get('basis'))}; "
-                          f"unit as tested: {text(load.get('configuration'))}"),
+        (
+            "Declared load",
+            f"{text(load.get('summary'))}; basis: {text(load.get('basis'))}; "
+            f"unit as tested: {text(load.get('configuration'))}",
+        ),
         ("Ambient", text(test.get("ambient_temperature"))),
     ]
-    instruments = [[
-        Paragraph(text(meter.get("label")), STYLES["cell"]),
-        Paragraph(text(meter.get("role")), STYLES["cell"]),
-        Paragraph(text(meter.get("response")), STYLES["cell"]),
-        Paragraph(text(meter.get("accuracy")), STYLES["cell"]),
-        Paragraph(fmt.day(meter.get("calibration_due")) if meter.get("calibration_due")
-                  else "no due date recorded", STYLES["cell"]),
-        Paragraph("in calibration" if meter.get("in_calibration")
-                  else "<b>out of calibration</b>", STYLES["cell"]),
-    ] for meter in test["instruments"]]
-    flowables = [Paragraph("Test set-up", STYLES["subheading"]),
-                 key_value_table(rows, width, LABEL_WIDTH),
-                 Paragraph("Instruments", STYLES["subheading"])]
+    instruments = [
+        [
+            Paragraph(text(meter.get("label")), STYLES["cell"]),
+            Paragraph(text(meter.get("role")), STYLES["cell"]),
+            Paragraph(text(meter.get("response")), STYLES["cell"]),
+            Paragraph(text(meter.get("accuracy")), STYLES["cell"]),
+            Paragraph(
+                fmt.day(meter.get("calibration_due"))
+                if meter.get("calibration_due")
+                else "no due date recorded",
+                STYLES["cell"],
+            ),
+            Paragraph(
+                "in calibration" if meter.get("in_calibration") else "<b>out of calibration</b>",
+                STYLES["cell"],
+            ),
+        ]
+        for meter in test["instruments"]
+    ]
+    flowables = [
+        Paragraph("Test set-up", STYLES["subheading"]),
+        key_value_table(rows, width, LABEL_WIDTH),
+        Paragraph("Instruments", STYLES["subheading"]),
+    ]
     if instruments:
-        flowables.append(data_table(INSTRUMENT_HEADER, instruments,
-                                    [width * f for f in INSTRUMENT_COLUMNS]))
+        flowables.append(
+            data_table(INSTRUMENT_HEADER, instruments, [width * f for f in INSTRUMENT_COLUMNS])
+        )
     else:
-        flowables.append(Paragraph("No instruments were recorded for this test.",
-                                   STYLES["body"]))
-    for label, key in (("Calibration override", "calibration_override"),
-                       ("Live-chassis override", "live_chassis_override")):
+        flowables.append(Paragraph("No instruments were recorded for this test.", STYLES["body"]))
+    for label, key in (
+        ("Calibration override", "calibration_override"),
+        ("Live-chassis override", "live_chassis_override"),
+    ):
         if test.get(key):
             flowables.append(_override(label, test[key]))
     return flowables
@@ -233,16 +307,23 @@ def _plot(test: dict, width: float) -> KeepTogether:
         "A unit that draws more than declared reads lower, because the lamp then takes more of "
         "the voltage; one that draws less reads higher."
     )
-    flowables = [Paragraph("Readings against a healthy unit", STYLES["subheading"]),
-                 Paragraph(explanation, STYLES["small"]), Spacer(1, 4),
-                 readings_plot(test, width, PLOT_HEIGHT)]
+    flowables = [
+        Paragraph("Readings against a healthy unit", STYLES["subheading"]),
+        Paragraph(explanation, STYLES["small"]),
+        Spacer(1, 4),
+        readings_plot(test, width, PLOT_HEIGHT),
+    ]
     cap = test.get("fault_cap")
     if cap:
         glow = f", and the lamp would glow {text(cap['glow'])}" if cap.get("glow") else ""
-        flowables.append(Paragraph(
-            f"<b>Fault-current cap:</b> through this lamp, a dead short in the unit would draw "
-            f"at most {fmt.amperes(cap['current'])} at {fmt.volts(cap['source_voltage'])} "
-            f"from the source{glow}.", STYLES["small"]))
+        flowables.append(
+            Paragraph(
+                f"<b>Fault-current cap:</b> through this lamp, a dead short in the unit would draw "
+                f"at most {fmt.amperes(cap['current'])} at {fmt.volts(cap['source_voltage'])} "
+                f"from the source{glow}.",
+                STYLES["small"],
+            )
+        )
     return KeepTogether(flowables)
 
 
@@ -252,18 +333,27 @@ def _readings(test: dict, width: float) -> list:
         status = status_words(reading["status"])
         if reading.get("lamp_bypassed"):
             status += " (lamp bypassed)"
-        rows.append([
-            str(reading["sequence"]), fmt.volts(reading["source_voltage"]),
-            fmt.volts(reading["load_voltage"]), fmt.amperes(reading.get("current")),
-            Paragraph(text(fmt.glow(reading.get("glow_seen"), reading.get("behaviour_seen"))),
-                      STYLES["cell"]),
-            fmt.band(reading["band_low"], reading["band_high"]),
-            Paragraph(fmt.draw(reading.get("inferred_draw"), reading["status"]),
-                      STYLES["cell"]),
-            Paragraph(text(status), STYLES["cell"]),
-        ])
-    return [Paragraph("Readings", STYLES["subheading"]),
-            data_table(READING_HEADER, rows, [width * f for f in READING_COLUMNS])]
+        rows.append(
+            [
+                str(reading["sequence"]),
+                fmt.volts(reading["source_voltage"]),
+                fmt.volts(reading["load_voltage"]),
+                fmt.amperes(reading.get("current")),
+                Paragraph(
+                    text(fmt.glow(reading.get("glow_seen"), reading.get("behaviour_seen"))),
+                    STYLES["cell"],
+                ),
+                fmt.band(reading["band_low"], reading["band_high"]),
+                Paragraph(
+                    fmt.draw(reading.get("inferred_draw"), reading["status"]), STYLES["cell"]
+                ),
+                Paragraph(text(status), STYLES["cell"]),
+            ]
+        )
+    return [
+        Paragraph("Readings", STYLES["subheading"]),
+        data_table(READING_HEADER, rows, [width * f for f in READING_COLUMNS]),
+    ]
 
 
 def _test(test: dict, index: int, count: int, width: float) -> list:
@@ -281,8 +371,11 @@ def _caveats(snapshot: dict, width: float) -> list:
     return [
         CondPageBreak(50 * mm),
         Paragraph("Safety caveats", STYLES["heading"]),
-        Paragraph("What this test does not prove, and what anyone who handles or powers this "
-                  "unit must know:", STYLES["body"]),
+        Paragraph(
+            "What this test does not prove, and what anyone who handles or powers this "
+            "unit must know:",
+            STYLES["body"],
+        ),
         *numbered([text(caveat["text"]) for caveat in snapshot["caveats"]], "caveat"),
         Spacer(1, 4),
         boxed([Paragraph(f"<b>{text(snapshot['statement'])}</b>", STYLES["body"])], width, INK),
@@ -306,16 +399,28 @@ def _sign_off(snapshot: dict, width: float) -> KeepTogether:
     left = [
         signature_lines([f"Technician: {text(technician)}", "Date"], left_width),
         Spacer(1, 8),
-        Paragraph(f"<b>Check this certificate</b> by scanning the code or visiting "
-                  f"{text(url)}", STYLES["body"]),
-        Paragraph(f"Verification code: <b>{text(certificate['verification_code'])}</b>",
-                  STYLES["body"]),
-        Paragraph("The check says whether this certificate is still valid or has been "
-                  "superseded or revoked.", STYLES["muted"]),
+        Paragraph(
+            f"<b>Check this certificate</b> by scanning the code or visiting {text(url)}",
+            STYLES["body"],
+        ),
+        Paragraph(
+            f"Verification code: <b>{text(certificate['verification_code'])}</b>", STYLES["body"]
+        ),
+        Paragraph(
+            "The check says whether this certificate is still valid or has been "
+            "superseded or revoked.",
+            STYLES["muted"],
+        ),
     ]
     table = Table([[left, qr_code(url, QR_SIZE)]], colWidths=[left_width, QR_SIZE + 8 * mm])
-    table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
-                               ("LEFTPADDING", (0, 0), (-1, -1), 0),
-                               ("RIGHTPADDING", (0, 0), (-1, -1), 0),
-                               ("ALIGN", (1, 0), (1, 0), "RIGHT")]))
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 0),
+                ("ALIGN", (1, 0), (1, 0), "RIGHT"),
+            ]
+        )
+    )
     return KeepTogether([Paragraph("Sign-off and verification", STYLES["heading"]), table])

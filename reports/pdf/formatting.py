@@ -9,10 +9,21 @@ from xml.sax.saxutils import escape
 CURRENT_SIGNIFICANT_DIGITS = 3
 NOT_RECORDED = "not recorded"
 # Month names spelled here, not by strftime("%B"), so that the process locale cannot change them.
-MONTHS = ("January", "February", "March", "April", "May", "June", "July", "August", "September",
-          "October", "November", "December")
-BEHAVIOUR_WORDS = {"steady": "steady", "flash_then_dims": "flash, then dim",
-                   "cycling": "cycling"}
+MONTHS = (
+    "January",
+    "February",
+    "March",
+    "April",
+    "May",
+    "June",
+    "July",
+    "August",
+    "September",
+    "October",
+    "November",
+    "December",
+)
+BEHAVIOUR_WORDS = {"steady": "steady", "flash_then_dims": "flash, then dim", "cycling": "cycling"}
 
 
 def text(value) -> str:

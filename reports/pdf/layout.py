@@ -73,8 +73,9 @@ class NumberedCanvas(Canvas):
         self.restoreState()
 
 
-def build_pdf(story: list, *, paper_size: str, title: str, subject: str, author: str,
-              footer: str) -> bytes:
+def build_pdf(
+    story: list, *, paper_size: str, title: str, subject: str, author: str, footer: str
+) -> bytes:
     """Lay out `story` on numbered pages and return the PDF; the same input gives the same bytes.
 
     `footer` is printed at the foot of every page beside "Page n of m"; keep it short, it is
@@ -82,9 +83,17 @@ def build_pdf(story: list, *, paper_size: str, title: str, subject: str, author:
     """
     buffer = io.BytesIO()
     document = SimpleDocTemplate(
-        buffer, pagesize=page_size(paper_size), leftMargin=MARGIN, rightMargin=MARGIN,
-        topMargin=MARGIN, bottomMargin=MARGIN, title=title, subject=subject,
-        author=author, creator=CREATOR, invariant=1,
+        buffer,
+        pagesize=page_size(paper_size),
+        leftMargin=MARGIN,
+        rightMargin=MARGIN,
+        topMargin=MARGIN,
+        bottomMargin=MARGIN,
+        title=title,
+        subject=subject,
+        author=author,
+        creator=CREATOR,
+        invariant=1,
     )
     document.build(story, canvasmaker=partial(NumberedCanvas, footer=footer))
     return buffer.getvalue()
@@ -93,32 +102,43 @@ def build_pdf(story: list, *, paper_size: str, title: str, subject: str, author:
 def shop_header(shop: dict, right: list[str], width: float) -> Table:
     """Shop identity on the left, the document's own identity (mark-up lines) on the right."""
     left = [Paragraph(text(shop.get("name")), STYLES["shop"])]
-    left += [Paragraph(text(shop[key]), STYLES["small"]) for key in ("address", "phone")
-             if shop.get(key)]
+    left += [
+        Paragraph(text(shop[key]), STYLES["small"]) for key in ("address", "phone") if shop.get(key)
+    ]
     right_cell = [Paragraph(line, STYLES["body"]) for line in right]
     table = Table([[left, right_cell]], colWidths=[width * 0.55, width * 0.45])
-    table.setStyle(TableStyle([
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("LEFTPADDING", (0, 0), (0, -1), 0),
-        ("RIGHTPADDING", (-1, 0), (-1, -1), 0),
-        ("LINEBELOW", (0, 0), (-1, -1), 1, RULE),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 6),
-    ]))
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (0, -1), 0),
+                ("RIGHTPADDING", (-1, 0), (-1, -1), 0),
+                ("LINEBELOW", (0, 0), (-1, -1), 1, RULE),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 6),
+            ]
+        )
+    )
     return table
 
 
 def key_value_table(rows: list[tuple[str, str]], width: float, label_width: float) -> Table:
     """Labelled facts, one per row; values are paragraph mark-up and wrap within `width`."""
-    data = [[Paragraph(label, STYLES["label"]), Paragraph(value, STYLES["cell"])]
-            for label, value in rows]
+    data = [
+        [Paragraph(label, STYLES["label"]), Paragraph(value, STYLES["cell"])]
+        for label, value in rows
+    ]
     table = Table(data, colWidths=[label_width, width - label_width])
-    table.setStyle(TableStyle([
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("LEFTPADDING", (0, 0), (-1, -1), 2),
-        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
-        ("LINEBELOW", (0, 0), (-1, -1), 0.25, SHADE),
-    ]))
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+                ("LINEBELOW", (0, 0), (-1, -1), 0.25, SHADE),
+            ]
+        )
+    )
     return table
 
 
@@ -126,31 +146,39 @@ def data_table(header: list[str], rows: list[list], widths: list[float]) -> Tabl
     """A ruled table whose header row repeats on every page it spans."""
     data = [[Paragraph(words, STYLES["cell_header"]) for words in header], *rows]
     table = Table(data, colWidths=widths, repeatRows=1)
-    table.setStyle(TableStyle([
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("BACKGROUND", (0, 0), (-1, 0), SHADE),
-        ("LINEBELOW", (0, 0), (-1, 0), 0.75, RULE),
-        ("LINEBELOW", (0, 1), (-1, -1), 0.25, SHADE),
-        ("FONTNAME", (0, 1), (-1, -1), FONT),
-        ("FONTSIZE", (0, 1), (-1, -1), SMALL_SIZE),
-        ("LEFTPADDING", (0, 0), (-1, -1), 3),
-        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
-        ("TOPPADDING", (0, 0), (-1, -1), 2),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
-    ]))
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("BACKGROUND", (0, 0), (-1, 0), SHADE),
+                ("LINEBELOW", (0, 0), (-1, 0), 0.75, RULE),
+                ("LINEBELOW", (0, 1), (-1, -1), 0.25, SHADE),
+                ("FONTNAME", (0, 1), (-1, -1), FONT),
+                ("FONTSIZE", (0, 1), (-1, -1), SMALL_SIZE),
+                ("LEFTPADDING", (0, 0), (-1, -1), 3),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+                ("TOPPADDING", (0, 0), (-1, -1), 2),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
     return table
 
 
 def boxed(flowables: list, width: float, colour) -> Table:
     """Flowables inside a coloured frame, for what the reader must not miss."""
     table = Table([[flowables]], colWidths=[width])
-    table.setStyle(TableStyle([
-        ("BOX", (0, 0), (-1, -1), 1.2, colour),
-        ("LEFTPADDING", (0, 0), (-1, -1), 7),
-        ("RIGHTPADDING", (0, 0), (-1, -1), 7),
-        ("TOPPADDING", (0, 0), (-1, -1), 5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 5),
-    ]))
+    table.setStyle(
+        TableStyle(
+            [
+                ("BOX", (0, 0), (-1, -1), 1.2, colour),
+                ("LEFTPADDING", (0, 0), (-1, -1), 7),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 7),
+                ("TOPPADDING", (0, 0), (-1, -1), 5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 5),
+            ]
+        )
+    )
     return table
 
 
@@ -162,8 +190,10 @@ def live_chassis_box(note: str | None, width: float) -> Table:
 
 def numbered(items: list[str], style: str = "list") -> list[Paragraph]:
     """Paragraph mark-up items as a numbered list."""
-    return [Paragraph(item, STYLES[style], bulletText=f"{number}.")
-            for number, item in enumerate(items, start=1)]
+    return [
+        Paragraph(item, STYLES[style], bulletText=f"{number}.")
+        for number, item in enumerate(items, start=1)
+    ]
 
 
 def signature_lines(labels: list[str], width: float) -> Table:
@@ -179,9 +209,13 @@ def signature_lines(labels: list[str], width: float) -> Table:
             row.append("")
             widths.append(gap)
     table = Table([[""] * len(row), row], colWidths=widths, rowHeights=[SIGNATURE_SPACE, None])
-    table.setStyle(TableStyle(
-        [("LINEABOVE", (column_index, 1), (column_index, 1), 0.75, MUTED)
-         for column_index in range(0, len(row), 2)]
-        + [("LEFTPADDING", (0, 0), (-1, -1), 0), ("VALIGN", (0, 0), (-1, -1), "TOP")]
-    ))
+    table.setStyle(
+        TableStyle(
+            [
+                ("LINEABOVE", (column_index, 1), (column_index, 1), 0.75, MUTED)
+                for column_index in range(0, len(row), 2)
+            ]
+            + [("LEFTPADDING", (0, 0), (-1, -1), 0), ("VALIGN", (0, 0), (-1, -1), "TOP")]
+        )
+    )
     return table

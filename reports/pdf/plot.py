@@ -38,19 +38,41 @@ def marker(shape: str, x: float, y: float, colour, radius: float = MARKER_RADIUS
     ink = colors.HexColor(colour)
     group = Group()
     if shape == "circle":
-        group.add(Circle(x, y, radius, fillColor=None, strokeColor=ink,
-                         strokeWidth=MARKER_STROKE))
+        group.add(Circle(x, y, radius, fillColor=None, strokeColor=ink, strokeWidth=MARKER_STROKE))
     elif shape == "square":
-        group.add(Rect(x - radius, y - radius, 2 * radius, 2 * radius, fillColor=ink,
-                       strokeColor=ink, strokeWidth=MARKER_STROKE))
+        group.add(
+            Rect(
+                x - radius,
+                y - radius,
+                2 * radius,
+                2 * radius,
+                fillColor=ink,
+                strokeColor=ink,
+                strokeWidth=MARKER_STROKE,
+            )
+        )
     elif shape == "cross":
         for sign in (1, -1):
-            group.add(Line(x - radius, y - sign * radius, x + radius, y + sign * radius,
-                           strokeColor=ink, strokeWidth=1.8))
+            group.add(
+                Line(
+                    x - radius,
+                    y - sign * radius,
+                    x + radius,
+                    y + sign * radius,
+                    strokeColor=ink,
+                    strokeWidth=1.8,
+                )
+            )
     elif shape in ("triangle_up", "triangle_down"):
         apex = radius if shape == "triangle_up" else -radius
-        group.add(Polygon([x, y + apex, x - radius, y - apex, x + radius, y - apex],
-                          fillColor=ink, strokeColor=ink, strokeWidth=MARKER_STROKE))
+        group.add(
+            Polygon(
+                [x, y + apex, x - radius, y - apex, x + radius, y - apex],
+                fillColor=ink,
+                strokeColor=ink,
+                strokeWidth=MARKER_STROKE,
+            )
+        )
     else:
         raise ValueError(f"marker shape {shape!r} is not one the plot can draw")
     return group
@@ -91,8 +113,11 @@ def readings_plot(test: dict, width: float, height: float) -> Drawing:
     readings = test["readings"]
     sources = [float(v) for v in curve["source_voltage"]]
     x_max = max(sources + [float(r["source_voltage"]) for r in readings] + [1.0])
-    y_max = max([float(v) for v in curve["load_voltage_high"]]
-                + [float(r["load_voltage"]) for r in readings] + [1.0])
+    y_max = max(
+        [float(v) for v in curve["load_voltage_high"]]
+        + [float(r["load_voltage"]) for r in readings]
+        + [1.0]
+    )
     x_ticks, x_labels = _axis_ticks(x_max)
     y_ticks, y_labels = _axis_ticks(y_max)
     plot_width = width - AXIS_LEFT - LEGEND_GAP - LEGEND_WIDTH
@@ -106,63 +131,149 @@ def readings_plot(test: dict, width: float, height: float) -> Drawing:
 
     drawing = Drawing(width, height)
     for value, label in zip(x_ticks, x_labels):
-        drawing.add(Line(px(value), AXIS_BOTTOM, px(value), AXIS_BOTTOM + plot_height,
-                         strokeColor=GRID, strokeWidth=0.5))
-        drawing.add(String(px(value), AXIS_BOTTOM - 9, label, fontName=FONT,
-                           fontSize=LABEL_SIZE, fillColor=INK, textAnchor="middle"))
+        drawing.add(
+            Line(
+                px(value),
+                AXIS_BOTTOM,
+                px(value),
+                AXIS_BOTTOM + plot_height,
+                strokeColor=GRID,
+                strokeWidth=0.5,
+            )
+        )
+        drawing.add(
+            String(
+                px(value),
+                AXIS_BOTTOM - 9,
+                label,
+                fontName=FONT,
+                fontSize=LABEL_SIZE,
+                fillColor=INK,
+                textAnchor="middle",
+            )
+        )
     for value, label in zip(y_ticks, y_labels):
-        drawing.add(Line(AXIS_LEFT, py(value), AXIS_LEFT + plot_width, py(value),
-                         strokeColor=GRID, strokeWidth=0.5))
-        drawing.add(String(AXIS_LEFT - 4, py(value) - 2.5, label, fontName=FONT,
-                           fontSize=LABEL_SIZE, fillColor=INK, textAnchor="end"))
+        drawing.add(
+            Line(
+                AXIS_LEFT,
+                py(value),
+                AXIS_LEFT + plot_width,
+                py(value),
+                strokeColor=GRID,
+                strokeWidth=0.5,
+            )
+        )
+        drawing.add(
+            String(
+                AXIS_LEFT - 4,
+                py(value) - 2.5,
+                label,
+                fontName=FONT,
+                fontSize=LABEL_SIZE,
+                fillColor=INK,
+                textAnchor="end",
+            )
+        )
 
     upper = [(px(x), py(y)) for x, y in zip(sources, curve["load_voltage_high"])]
     lower = [(px(x), py(y)) for x, y in zip(sources, curve["load_voltage_low"])]
     outline = [coordinate for point in upper + lower[::-1] for coordinate in point]
-    drawing.add(Polygon(outline, fillColor=BAND_FILL, strokeColor=BAND_EDGE, strokeWidth=0.6,
-                        strokeDashArray=[3, 2]))
-    drawing.add(PolyLine([c for x, y in zip(sources, curve["load_voltage"])
-                          for c in (px(x), py(y))], strokeColor=HEALTHY_LINE, strokeWidth=1.3))
-    drawing.add(Rect(AXIS_LEFT, AXIS_BOTTOM, plot_width, plot_height, fillColor=None,
-                     strokeColor=INK, strokeWidth=0.8))
+    drawing.add(
+        Polygon(
+            outline,
+            fillColor=BAND_FILL,
+            strokeColor=BAND_EDGE,
+            strokeWidth=0.6,
+            strokeDashArray=[3, 2],
+        )
+    )
+    drawing.add(
+        PolyLine(
+            [c for x, y in zip(sources, curve["load_voltage"]) for c in (px(x), py(y))],
+            strokeColor=HEALTHY_LINE,
+            strokeWidth=1.3,
+        )
+    )
+    drawing.add(
+        Rect(
+            AXIS_LEFT,
+            AXIS_BOTTOM,
+            plot_width,
+            plot_height,
+            fillColor=None,
+            strokeColor=INK,
+            strokeWidth=0.8,
+        )
+    )
     for reading in readings:
         shape, colour, _ = _status_marker(reading["status"])
-        drawing.add(marker(shape, px(reading["source_voltage"]), py(reading["load_voltage"]),
-                           colour))
+        drawing.add(
+            marker(shape, px(reading["source_voltage"]), py(reading["load_voltage"]), colour)
+        )
 
-    drawing.add(String(AXIS_LEFT + plot_width / 2, 5, "Source voltage [V RMS]", fontName=FONT,
-                       fontSize=LABEL_SIZE + 0.5, fillColor=INK, textAnchor="middle"))
-    y_label = Group(String(0, 0, "Voltage at the unit [V RMS]", fontName=FONT,
-                           fontSize=LABEL_SIZE + 0.5, fillColor=INK, textAnchor="middle"))
+    drawing.add(
+        String(
+            AXIS_LEFT + plot_width / 2,
+            5,
+            "Source voltage [V RMS]",
+            fontName=FONT,
+            fontSize=LABEL_SIZE + 0.5,
+            fillColor=INK,
+            textAnchor="middle",
+        )
+    )
+    y_label = Group(
+        String(
+            0,
+            0,
+            "Voltage at the unit [V RMS]",
+            fontName=FONT,
+            fontSize=LABEL_SIZE + 0.5,
+            fillColor=INK,
+            textAnchor="middle",
+        )
+    )
     y_label.transform = (0, 1, -1, 0, 9, AXIS_BOTTOM + plot_height / 2)
     drawing.add(y_label)
-    drawing.add(_legend({r["status"] for r in readings}, AXIS_LEFT + plot_width + LEGEND_GAP,
-                        height - TOP_PAD))
+    drawing.add(
+        _legend(
+            {r["status"] for r in readings}, AXIS_LEFT + plot_width + LEGEND_GAP, height - TOP_PAD
+        )
+    )
     return drawing
 
 
 def _legend(statuses: set[str], left: float, top: float) -> Group:
     group = Group()
-    group.add(String(left, top - 8, "Key", fontName=FONT_BOLD, fontSize=LABEL_SIZE,
-                     fillColor=INK))
+    group.add(String(left, top - 8, "Key", fontName=FONT_BOLD, fontSize=LABEL_SIZE, fillColor=INK))
     row = top - 8 - LEGEND_ROW
     text_left = left + 20
-    group.add(Rect(left, row - 1, 14, 8, fillColor=BAND_FILL, strokeColor=BAND_EDGE,
-                   strokeWidth=0.6, strokeDashArray=[3, 2]))
-    group.add(String(text_left, row, BAND_WORDS, fontName=FONT, fontSize=LABEL_SIZE,
-                     fillColor=INK))
+    group.add(
+        Rect(
+            left,
+            row - 1,
+            14,
+            8,
+            fillColor=BAND_FILL,
+            strokeColor=BAND_EDGE,
+            strokeWidth=0.6,
+            strokeDashArray=[3, 2],
+        )
+    )
+    group.add(String(text_left, row, BAND_WORDS, fontName=FONT, fontSize=LABEL_SIZE, fillColor=INK))
     row -= LEGEND_ROW
     group.add(Line(left, row + 3, left + 14, row + 3, strokeColor=HEALTHY_LINE, strokeWidth=1.3))
-    group.add(String(text_left, row, HEALTHY_WORDS, fontName=FONT, fontSize=LABEL_SIZE,
-                     fillColor=INK))
+    group.add(
+        String(text_left, row, HEALTHY_WORDS, fontName=FONT, fontSize=LABEL_SIZE, fillColor=INK)
+    )
     row -= LEGEND_ROW + 3
-    group.add(String(left, row, "Readings", fontName=FONT_BOLD, fontSize=LABEL_SIZE,
-                     fillColor=MUTED))
+    group.add(
+        String(left, row, "Readings", fontName=FONT_BOLD, fontSize=LABEL_SIZE, fillColor=MUTED)
+    )
     for status, (shape, colour, words) in MARKERS.items():
         if status not in statuses:
             continue
         row -= LEGEND_ROW
         group.add(marker(shape, left + 7, row + 3, colour))
-        group.add(String(text_left, row, words, fontName=FONT, fontSize=LABEL_SIZE,
-                         fillColor=INK))
+        group.add(String(text_left, row, words, fontName=FONT, fontSize=LABEL_SIZE, fillColor=INK))
     return group

@@ -32,18 +32,28 @@ def render_receipt(data: dict) -> bytes:
     job = data["job"]
     unit = data["unit"]
     customer = data["customer"]
-    header = shop_header(data["shop"], [
-        f"<b>Job {text(job['number'])}</b>",
-        f"Received {fmt.day(job.get('received_on'))}",
-    ], width)
+    header = shop_header(
+        data["shop"],
+        [
+            f"<b>Job {text(job['number'])}</b>",
+            f"Received {fmt.day(job.get('received_on'))}",
+        ],
+        width,
+    )
     job_rows = [
         ("Customer", text(customer.get("name"))),
         ("Phone", text(customer.get("phone"))),
         ("Received", fmt.day(job.get("received_on"))),
-        ("Ready by (expected)", fmt.day(job["promised_on"]) if job.get("promised_on")
-         else "to be agreed"),
-        ("Estimate", text(job["estimate"]) if job.get("estimate") is not None
-         else "not yet given; we contact you with one"),
+        (
+            "Ready by (expected)",
+            fmt.day(job["promised_on"]) if job.get("promised_on") else "to be agreed",
+        ),
+        (
+            "Estimate",
+            text(job["estimate"])
+            if job.get("estimate") is not None
+            else "not yet given; we contact you with one",
+        ),
     ]
     unit_rows = [
         ("Unit", f"<b>{text(fmt.unit_name(unit))}</b>"),
@@ -54,24 +64,37 @@ def render_receipt(data: dict) -> bytes:
         ("Complaint", text(job.get("complaint"))),
         ("Condition at intake", text(data.get("condition"))),
     ]
-    story = [header, Paragraph(TITLE, STYLES["title"]), Paragraph(SUBTITLE, STYLES["subtitle"]),
-             key_value_table(job_rows, width, LABEL_WIDTH),
-             Paragraph("The unit", STYLES["heading"]),
-             key_value_table(unit_rows, width, LABEL_WIDTH), Spacer(1, 8)]
+    story = [
+        header,
+        Paragraph(TITLE, STYLES["title"]),
+        Paragraph(SUBTITLE, STYLES["subtitle"]),
+        key_value_table(job_rows, width, LABEL_WIDTH),
+        Paragraph("The unit", STYLES["heading"]),
+        key_value_table(unit_rows, width, LABEL_WIDTH),
+        Spacer(1, 8),
+    ]
     if unit.get("chassis_may_be_live") or data.get("live_chassis_note"):
         story += [live_chassis_box(data.get("live_chassis_note"), width), Spacer(1, 6)]
     story += [
-        boxed([Paragraph(f"<b>Caution.</b> {text(data['caution'])}", STYLES["body"])], width,
-              INK),
+        boxed([Paragraph(f"<b>Caution.</b> {text(data['caution'])}", STYLES["body"])], width, INK),
         Paragraph("What happens next", STYLES["heading"]),
         *numbered([text(step) for step in data["next_steps"]]),
         Paragraph("Terms", STYLES["heading"]),
         Paragraph(text(data.get("terms")), STYLES["body"]),
-        KeepTogether([Spacer(1, 6), signature_lines(
-            ["Received for the shop by", f"Customer: {text(customer.get('name'))}"], width)]),
+        KeepTogether(
+            [
+                Spacer(1, 6),
+                signature_lines(
+                    ["Received for the shop by", f"Customer: {text(customer.get('name'))}"], width
+                ),
+            ]
+        ),
     ]
     return build_pdf(
-        story, paper_size=paper, title=f"{TITLE}, job {job['number']}",
+        story,
+        paper_size=paper,
+        title=f"{TITLE}, job {job['number']}",
         subject=f"{TITLE} for {fmt.unit_name(unit)}, serial {unit.get('serial') or 'none'}.",
-        author=data["shop"]["name"], footer=FOOTER.format(number=job["number"]),
+        author=data["shop"]["name"],
+        footer=FOOTER.format(number=job["number"]),
     )

@@ -38,8 +38,7 @@ OUTCOME_COLOURS = {
 
 
 def _style(name: str, **overrides) -> ParagraphStyle:
-    base = {"fontName": FONT, "fontSize": BODY_SIZE, "leading": BODY_SIZE * 1.25,
-            "textColor": INK}
+    base = {"fontName": FONT, "fontSize": BODY_SIZE, "leading": BODY_SIZE * 1.25, "textColor": INK}
     return ParagraphStyle(name, **{**base, **overrides})
 
 
@@ -47,24 +46,47 @@ STYLES = {
     "body": _style("body", spaceAfter=3),
     "small": _style("small", fontSize=SMALL_SIZE, leading=SMALL_SIZE * 1.25),
     "muted": _style("muted", fontSize=SMALL_SIZE, leading=SMALL_SIZE * 1.25, textColor=MUTED),
-    "label": _style("label", fontName=FONT_BOLD, fontSize=SMALL_SIZE,
-                    leading=SMALL_SIZE * 1.3, textColor=MUTED),
+    "label": _style(
+        "label", fontName=FONT_BOLD, fontSize=SMALL_SIZE, leading=SMALL_SIZE * 1.3, textColor=MUTED
+    ),
     "cell": _style("cell", fontSize=SMALL_SIZE, leading=SMALL_SIZE * 1.2),
-    "cell_header": _style("cell_header", fontName=FONT_BOLD, fontSize=SMALL_SIZE,
-                          leading=SMALL_SIZE * 1.2),
+    "cell_header": _style(
+        "cell_header", fontName=FONT_BOLD, fontSize=SMALL_SIZE, leading=SMALL_SIZE * 1.2
+    ),
     "shop": _style("shop", fontName=FONT_BOLD, fontSize=13, leading=16),
     "title": _style("title", fontName=FONT_BOLD, fontSize=17, leading=21, spaceBefore=6),
     "subtitle": _style("subtitle", fontSize=10, leading=13, spaceAfter=8),
-    "heading": _style("heading", fontName=FONT_BOLD, fontSize=11, leading=14, spaceBefore=10,
-                      spaceAfter=4),
-    "subheading": _style("subheading", fontName=FONT_BOLD, fontSize=BODY_SIZE,
-                         leading=BODY_SIZE * 1.3, spaceBefore=6, spaceAfter=3),
+    "heading": _style(
+        "heading", fontName=FONT_BOLD, fontSize=11, leading=14, spaceBefore=10, spaceAfter=4
+    ),
+    "subheading": _style(
+        "subheading",
+        fontName=FONT_BOLD,
+        fontSize=BODY_SIZE,
+        leading=BODY_SIZE * 1.3,
+        spaceBefore=6,
+        spaceAfter=3,
+    ),
     "outcome": _style("outcome", fontName=FONT_BOLD, fontSize=16, leading=19),
     "warning": _style("warning", textColor=WARNING),
-    "list": _style("list", leftIndent=15, bulletIndent=0, spaceAfter=2,
-                   bulletFontName=FONT, bulletFontSize=BODY_SIZE),
-    "caveat": _style("caveat", fontSize=8, leading=10, leftIndent=15, bulletIndent=0,
-                     spaceAfter=1.5, bulletFontName=FONT, bulletFontSize=8),
+    "list": _style(
+        "list",
+        leftIndent=15,
+        bulletIndent=0,
+        spaceAfter=2,
+        bulletFontName=FONT,
+        bulletFontSize=BODY_SIZE,
+    ),
+    "caveat": _style(
+        "caveat",
+        fontSize=8,
+        leading=10,
+        leftIndent=15,
+        bulletIndent=0,
+        spaceAfter=1.5,
+        bulletFontName=FONT,
+        bulletFontSize=8,
+    ),
 }
 
 

@@ -84,6 +84,20 @@ def _physics_refusal(exc: ValueError, field: str) -> ApplicationError:
     )
 
 
+def healthy_curves(test: PowerUpTest, inputs: dict, points: int) -> dict:
+    """The healthy prediction over a sweep to the rig's full source, from a test's inputs."""
+    full = test.rig.full_source_voltage
+    return prediction.predict(
+        limiter=inputs["limiter"],
+        declared_load=test.declared_load,
+        source_voltages=prediction.sweep(full, points),
+        source_resistance=inputs["source_resistance"],
+        frequency=inputs["frequency"],
+        full_source_voltage=full,
+        ambient_temperature=inputs["ambient_temperature"],
+    )
+
+
 def powerup_plot(test: PowerUpTest) -> str:
     """The test's SVG plot: the healthy band over a sweep and each reading by its status."""
     readings = list(reading_list(test=test))
@@ -94,16 +108,7 @@ def powerup_plot(test: PowerUpTest) -> str:
         statuses = [item.status for item in judging.judge_inputs(inputs).readings]
     else:
         statuses = []
-    full = test.rig.full_source_voltage
-    curves = prediction.predict(
-        limiter=inputs["limiter"],
-        declared_load=test.declared_load,
-        source_voltages=prediction.sweep(full, PLOT_POINTS),
-        source_resistance=inputs["source_resistance"],
-        frequency=inputs["frequency"],
-        full_source_voltage=full,
-        ambient_temperature=test.ambient_temperature,
-    )
+    curves = healthy_curves(test, inputs, PLOT_POINTS)
     points = [
         {"source_voltage": r.source_voltage, "load_voltage": r.load_voltage, "status": status}
         for r, status in zip(readings, statuses)

@@ -11,6 +11,7 @@ from django.core.validators import MaxValueValidator, MinValueValidator
 from django.db import models
 from django.utils import timezone
 
+from shop.core.numbering import YearCounter
 from shop.core.versioning import Versioned
 
 # Nameplate limits: anything outside is a typing mistake, not a unit this bench powers up.
@@ -175,14 +176,8 @@ class JobState(models.TextChoices):
     DECLINED = "declined", "Declined by customer"
 
 
-class JobNumberCounter(models.Model):
-    """The last job number handed out in a year; its row is locked while a number is taken."""
-
-    year = models.PositiveSmallIntegerField(primary_key=True)
-    last = models.PositiveIntegerField(default=0)
-
-    def __str__(self) -> str:
-        return f"{self.year}: {self.last}"
+class JobNumberCounter(YearCounter):
+    """The last job number handed out in a year."""
 
 
 class Job(Versioned):

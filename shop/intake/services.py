@@ -8,10 +8,10 @@ from datetime import date
 from django.conf import settings
 from django.core.exceptions import ValidationError
 from django.db import IntegrityError, transaction
-from django.db.models import F
 from django.utils import timezone
 
 from shop.core.errors import ApplicationError, Conflict, Forbidden
+from shop.core.numbering import next_in_year
 from shop.core.roles import TECHNICIAN, has_role, user_roles
 from shop.core.services import create_validated, only_fields
 from shop.core.versioning import check_version, versioned_update
@@ -95,21 +95,8 @@ def _check_technician(user) -> None:
 
 
 def job_number_allocate(*, year: int) -> str:
-    """Take the next job number of `year` ("2026-0042"), safe under concurrent intake.
-
-    Must run inside a transaction: the counter row stays locked until it commits.
-    """
-    counter = JobNumberCounter.objects.select_for_update().filter(year=year).first()
-    if counter is None:
-        try:
-            with transaction.atomic():
-                JobNumberCounter.objects.create(year=year, last=0)
-        except IntegrityError:
-            pass  # another intake created this year's counter first; lock theirs
-        counter = JobNumberCounter.objects.select_for_update().get(year=year)
-    JobNumberCounter.objects.filter(year=year).update(last=F("last") + 1)
-    counter.refresh_from_db()
-    return f"{year}-{counter.last:04d}"
+    """Take the next job number of `year` ("2026-0042"); run inside a transaction."""
+    return f"{year}-{next_in_year(JobNumberCounter, year=year):04d}"
 
 
 @transaction.atomic

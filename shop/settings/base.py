@@ -154,6 +154,7 @@ REST_FRAMEWORK = {
     "EXCEPTION_HANDLER": "shop.core.errors.shop_exception_handler",
     "NON_FIELD_ERRORS_KEY": "non_field_errors",
     "COERCE_DECIMAL_TO_STRING": False,
+    "DEFAULT_THROTTLE_RATES": {"verify": os.environ.get("VERIFY_THROTTLE_RATE", "60/minute")},
 }
 
 SPECTACULAR_SETTINGS = {
@@ -176,6 +177,17 @@ SPECTACULAR_SETTINGS = {
 SHOP_NAME = os.environ.get("SHOP_NAME", "Bench record service")
 SHOP_ADDRESS = os.environ.get("SHOP_ADDRESS", "")
 SHOP_PHONE = os.environ.get("SHOP_PHONE", "")
+# Where customers reach the verification page (printed and QR-coded on certificates).
+SHOP_PUBLIC_URL = os.environ.get("SHOP_PUBLIC_URL", "http://127.0.0.1:8000")
+CERTIFICATE_PAPER_SIZE = os.environ.get("CERTIFICATE_PAPER_SIZE", "A4")
+if CERTIFICATE_PAPER_SIZE not in {"A4", "Letter"}:
+    raise ImproperlyConfigured("CERTIFICATE_PAPER_SIZE must be A4 or Letter.")
+# The shop's terms, printed on intake receipts.
+SHOP_TERMS = os.environ.get(
+    "SHOP_TERMS",
+    "Diagnosis and estimates are free. Nothing is repaired without your approval. Units not "
+    "collected within 90 days of our notice may be disposed of.",
+)
 
 LOGIN_URL = "/api/auth/login/"
 LOGIN_REDIRECT_URL = "/api/docs/"

@@ -82,7 +82,7 @@ def test_lists_cost_the_same_as_rows_grow(rig, lamps, meter, overdue_meter, clie
     paths = ["/api/lamps/", "/api/instruments/", "/api/rigs/"]
     few = [count_queries(client, path) for path in paths]
     for watts in (200, 300):
-        from tests.bench.conftest import make_lamp
+        from tests.fixtures_bench import make_lamp
 
         make_lamp(rig, watts)
     services.instrument_create(

@@ -31,7 +31,7 @@ def open_body(job, rig, lamp, **extra):
 def test_a_live_chassis_unit_on_a_rig_without_isolation_is_refused_with_409(
     hot_job, bare_rig, client_for
 ):
-    from tests.bench.conftest import make_lamp
+    from tests.fixtures_bench import make_lamp
 
     lamp = make_lamp(bare_rig, 60)
     response = client_for("technician").post(
@@ -43,7 +43,7 @@ def test_a_live_chassis_unit_on_a_rig_without_isolation_is_refused_with_409(
 
 
 def test_a_technician_cannot_override_the_isolation_rule(hot_job, bare_rig, client_for):
-    from tests.bench.conftest import make_lamp
+    from tests.fixtures_bench import make_lamp
 
     lamp = make_lamp(bare_rig, 60)
     response = client_for("technician").post(
@@ -56,7 +56,7 @@ def test_a_technician_cannot_override_the_isolation_rule(hot_job, bare_rig, clie
 
 
 def test_a_lead_override_is_kept_and_shown(hot_job, bare_rig, client_for, staff):
-    from tests.bench.conftest import make_lamp
+    from tests.fixtures_bench import make_lamp
 
     lamp = make_lamp(bare_rig, 60)
     reason = "Unit fitted with its own isolating transformer during repair; verified by meter."
@@ -178,7 +178,7 @@ def test_bad_declared_loads_are_refused_by_field(
 
 
 def test_a_lamp_of_another_rig_is_refused(testing_job, rig, bare_rig, client_for):
-    from tests.bench.conftest import make_lamp
+    from tests.fixtures_bench import make_lamp
 
     lamp = make_lamp(bare_rig, 60)
     response = client_for("technician").post(

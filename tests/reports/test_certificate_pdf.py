@@ -40,10 +40,17 @@ def long_snapshot() -> dict:
     test = snapshot["tests"][0]
     template = test["readings"][0]
     test["readings"] = [
-        {**template, "sequence": index + 1, "source_voltage": 3.1 * (index + 1),
-         "load_voltage": 2.7 * (index + 1), "status": READING_STATUSES[index % 5],
-         "current": 0.0213 * (index + 1) if index % 2 else None,
-         "inferred_draw": None if READING_STATUSES[index % 5] == "draw_high" else 0.5 + index / 20}
+        {
+            **template,
+            "sequence": index + 1,
+            "source_voltage": 3.1 * (index + 1),
+            "load_voltage": 2.7 * (index + 1),
+            "status": READING_STATUSES[index % 5],
+            "current": 0.0213 * (index + 1) if index % 2 else None,
+            "inferred_draw": None
+            if READING_STATUSES[index % 5] == "draw_high"
+            else 0.5 + index / 20,
+        }
         for index in range(40)
     ]
     return snapshot
@@ -120,7 +127,7 @@ def test_the_title_says_it_is_a_functional_check_not_a_safety_approval(example_p
 
 def test_the_outcome_stands_beside_the_words_that_limit_it(example_pdf):
     first_page = pages_of(example_pdf)[0]
-    after_outcome = first_page[first_page.index("PASS"):][:120]
+    after_outcome = first_page[first_page.index("PASS") :][:120]
     assert "not an electrical safety approval" in after_outcome
 
 
@@ -155,12 +162,22 @@ def test_certificate_text_names_each_instrument_and_its_calibration_due_date(exa
 
 
 def test_certificate_text_describes_the_unit_customer_and_set_up(example_text):
-    for words in ("Brightwave Console 7 (1954)", "BW7-40211", "120 V, 65 W, 60 Hz",
-                  "Isolating power transformer", "Class 0", "2-wire", "Orla Quennell",
-                  "Loud hum, no stations after warm-up.", "Replaced reservoir and smoothing",
-                  "2 x 47 uF 450 V electrolytic", "Variable autotransformer, 132 V at full dial",
-                  "Isolation transformer, 500 VA", "one 60 W 120 V gas-filled tungsten lamp",
-                  "a resistance drawing 65 W at 120 V"):
+    for words in (
+        "Brightwave Console 7 (1954)",
+        "BW7-40211",
+        "120 V, 65 W, 60 Hz",
+        "Isolating power transformer",
+        "Class 0",
+        "2-wire",
+        "Orla Quennell",
+        "Loud hum, no stations after warm-up.",
+        "Replaced reservoir and smoothing",
+        "2 x 47 uF 450 V electrolytic",
+        "Variable autotransformer, 132 V at full dial",
+        "Isolation transformer, 500 VA",
+        "one 60 W 120 V gas-filled tungsten lamp",
+        "a resistance drawing 65 W at 120 V",
+    ):
         assert words in example_text
 
 
@@ -224,8 +241,9 @@ def test_an_unknown_reading_status_is_refused_by_name():
 
 def test_forty_readings_continue_on_the_next_page_with_the_header_repeated(long_pdf):
     readings = long_snapshot()["tests"][0]["readings"]
-    rows = [f"{r['sequence']} {r['source_voltage']:.1f} V {r['load_voltage']:.1f} V"
-            for r in readings]
+    rows = [
+        f"{r['sequence']} {r['source_voltage']:.1f} V {r['load_voltage']:.1f} V" for r in readings
+    ]
     pages = pages_of(long_pdf)
     table_pages = [page for page in pages if any(row in page for row in rows)]
     assert len(table_pages) >= 2
@@ -296,22 +314,32 @@ def test_overrides_are_printed_with_who_and_why():
     snapshot = certificate_snapshot()
     test = snapshot["tests"][0]
     test["instruments"][0]["in_calibration"] = False
-    test["calibration_override"] = {"reason": "Checked against the reference cell today",
-                                    "by": "Lena Marrick", "instruments": ["Corvid TM-9 (test 1)"]}
-    test["live_chassis_override"] = {"reason": "Isolated by the unit's own transformer",
-                                     "by": "Lena Marrick"}
+    test["calibration_override"] = {
+        "reason": "Checked against the reference cell today",
+        "by": "Lena Marrick",
+        "instruments": ["Corvid TM-9 (test 1)"],
+    }
+    test["live_chassis_override"] = {
+        "reason": "Isolated by the unit's own transformer",
+        "by": "Lena Marrick",
+    }
     text = " ".join(pages_of(render_certificate(snapshot)))
     assert "out of calibration" in text
-    assert ("Calibration override by Lena Marrick: Checked against the reference cell today "
-            "(instruments: Corvid TM-9 (test 1))") in text
+    assert (
+        "Calibration override by Lena Marrick: Checked against the reference cell today "
+        "(instruments: Corvid TM-9 (test 1))"
+    ) in text
     assert "Live-chassis override by Lena Marrick: Isolated by the unit's own transformer" in text
 
 
 def test_every_test_of_a_certificate_has_its_outcome_printed():
     snapshot = certificate_snapshot()
     second = copy.deepcopy(snapshot["tests"][0])
-    second.update(id=2, outcome="fail", outcome_words="Fail: the unit drew what a healthy "
-                  "unit does not; see the reasons.")
+    second.update(
+        id=2,
+        outcome="fail",
+        outcome_words="Fail: the unit drew what a healthy unit does not; see the reasons.",
+    )
     snapshot["tests"].append(second)
     first_page = pages_of(render_certificate(snapshot))[0]
     assert "Power-up test 1 of 2" in first_page
@@ -325,6 +353,7 @@ def test_rendering_loads_no_django():
         f"render_certificate(json.load(open({str(DATA / 'certificate_snapshot.json')!r}))); "
         "print(sorted(m for m in sys.modules if m.split('.')[0] == 'django'))"
     )
-    result = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
-                            cwd=REPOSITORY, check=True)
+    result = subprocess.run(
+        [sys.executable, "-c", script], capture_output=True, text=True, cwd=REPOSITORY, check=True
+    )
     assert result.stdout.strip() == "[]"

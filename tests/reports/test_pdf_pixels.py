@@ -97,8 +97,9 @@ def test_the_plot_has_its_band_and_reading_marks_drawn(pdftoppm, tmp_path):
     reader = pypdf.PdfReader(io.BytesIO(pdf))
     pages = rasterise(pdf, pdftoppm, tmp_path)
     found = [(index, text_heights(page)) for index, page in enumerate(reader.pages)]
-    index, heights = next((index, heights) for index, heights in found
-                          if "Readings against a healthy unit" in heights)
+    index, heights = next(
+        (index, heights) for index, heights in found if "Readings against a healthy unit" in heights
+    )
     page_height = float(reader.pages[index].mediabox.height)
     top = round((page_height - heights["Readings against a healthy unit"]) * SCALE)
     bottom = round((page_height - heights["Fault-current cap:"]) * SCALE)
@@ -113,7 +114,7 @@ def test_no_ink_reaches_the_side_margins_with_long_names_and_forty_readings(pdft
     for page in pages:
         width = page.shape[1]
         margin = int(MARGIN * SCALE) - 1
-        assert page[:, width - margin:].min() >= CLEAR_LEVEL
+        assert page[:, width - margin :].min() >= CLEAR_LEVEL
         assert page[:, :margin].min() >= CLEAR_LEVEL
 
 
@@ -124,8 +125,10 @@ def test_the_qr_code_reads_back_as_the_verification_address(pdftoppm, tmp_path):
     snapshot = certificate_snapshot()
     source = tmp_path / "certificate.pdf"
     source.write_bytes(render_certificate(snapshot))
-    subprocess.run([pdftoppm, "-r", "200", "-png", str(source), str(tmp_path / "page")],
-                   check=True)
-    found = subprocess.run([zbarimg, "--raw", "-q", *map(str, tmp_path.glob("page-*.png"))],
-                           capture_output=True, text=True)
+    subprocess.run([pdftoppm, "-r", "200", "-png", str(source), str(tmp_path / "page")], check=True)
+    found = subprocess.run(
+        [zbarimg, "--raw", "-q", *map(str, tmp_path.glob("page-*.png"))],
+        capture_output=True,
+        text=True,
+    )
     assert found.stdout.split() == [snapshot["certificate"]["verification_url"]]

@@ -12,13 +12,18 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 from django.utils import timezone
 
+from reports.pdf import render_certificate
+from reports.selectors import snapshot_of
+from reports.services import CERTIFIABLE_STATES, certificate_issue
+from reports.snapshot import verification_url
 from shop.bench.demo import load_demo_bench
 from shop.intake import services
-from shop.intake.models import Customer
+from shop.intake.models import Customer, Job
 
 DEMO_DIR = Path(settings.BASE_DIR) / "fixtures" / "demo"
 # Local demo only: every demo account shares this password, printed at load time.
 DEMO_PASSWORD = "bench-demo-2026"
+SAMPLE_DIR = Path(settings.DATA_DIR) / "samples"
 
 
 class Command(BaseCommand):
@@ -40,11 +45,29 @@ class Command(BaseCommand):
                 f"{len(tests)} closed power-up tests:"
             )
             self.stdout.write("\n".join(tests))
+            self.write_sample_certificate(staff)
         self.stdout.write("Demo staff (local use only):")
         for person in data["staff"]:
             self.stdout.write(
                 f"  {person['username']:<6} {person['role']:<11} password: {DEMO_PASSWORD}"
             )
+
+    def write_sample_certificate(self, staff: dict[str, User]) -> None:
+        """Issue a certificate for the first certifiable demo job and write its PDF."""
+        lead = next(user for user in staff.values() if user.groups.filter(name="lead").exists())
+        job = (
+            Job.objects.filter(state__in=CERTIFIABLE_STATES, powerups__status="closed")
+            .order_by("number")
+            .first()
+        )
+        certificate = certificate_issue(job=job, issued_by=lead)
+        SAMPLE_DIR.mkdir(parents=True, exist_ok=True)
+        path = SAMPLE_DIR / f"certificate-{certificate.number}.pdf"
+        path.write_bytes(render_certificate(snapshot_of(certificate)))
+        self.stdout.write(f"Sample certificate {certificate.number} for job {job.number}: {path}")
+        self.stdout.write(
+            f"  verify at {verification_url(certificate.number, certificate.verification_code)}"
+        )
 
     def load_staff(self, people: list[dict]) -> dict[str, User]:
         staff = {}

@@ -1,4 +1,4 @@
-"""Bench fixtures: an isolated 120 V rig and a bare one, lamps, a bank, meters, an open test."""
+"""Bench fixtures: an isolated 120 V rig and a bare one, lamps, meters, an open test."""
 
 from __future__ import annotations
 

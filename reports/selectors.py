@@ -1,0 +1,122 @@
+"""Reads for certificates and receipts; verification never reveals more than it must."""
+
+from __future__ import annotations
+
+import hmac
+import json
+
+from django.conf import settings
+from django.db.models import QuerySet
+
+from shop.intake.models import Job
+
+from .canonical import sha256_hex
+from .models import Certificate, certificate_status
+
+NEXT_STEPS = (
+    "A technician inspects the unit and tells you what is wrong and what the repair will cost.",
+    "Nothing is repaired without your approval.",
+    "We tell you when the unit is ready to collect.",
+)
+POWER_UP_CAUTION = (
+    "Before it meets full mains, the unit will be powered up under controlled conditions: "
+    "through a current-limiting series lamp, on an isolated bench, by trained staff."
+)
+
+
+def certificate_list() -> QuerySet[Certificate]:
+    return Certificate.objects.select_related(
+        "job", "issued_by", "supersedes", "superseded_by"
+    ).prefetch_related("events", "tests")
+
+
+def snapshot_of(certificate: Certificate) -> dict:
+    return json.loads(certificate.snapshot)
+
+
+def snapshot_intact(certificate: Certificate) -> bool:
+    """Whether the stored snapshot still hashes to the SHA-256 recorded at issue."""
+    return hmac.compare_digest(sha256_hex(certificate.snapshot), certificate.sha256)
+
+
+def certificate_for_verification(number: str, code: str) -> Certificate | None:
+    """The certificate only when both number and code match; None for any mismatch alike."""
+    certificate = certificate_list().filter(number=number).first()
+    supplied = (code or "").strip().upper()
+    stored = certificate.verification_code if certificate else "X" * len(supplied)
+    matches = hmac.compare_digest(stored.encode(), supplied.encode())
+    return certificate if certificate and matches else None
+
+
+def verification_answer(certificate: Certificate) -> dict:
+    """What a verifier may learn: status, date, unit, outcome; never the customer's contact."""
+    intact = snapshot_intact(certificate)
+    answer = {
+        "number": certificate.number,
+        "intact": intact,
+        "issued_at": certificate.issued_at.isoformat(),
+    }
+    if not intact:
+        answer["status"] = "tampered"
+        answer["message"] = (
+            "The stored record no longer matches what was issued. Do not rely "
+            "on this certificate; contact the shop."
+        )
+        return answer
+    snapshot = snapshot_of(certificate)
+    unit = snapshot["unit"]
+    status = certificate_status(certificate)
+    answer.update(
+        status=status,
+        unit=" ".join(
+            part
+            for part in (
+                unit["maker"],
+                unit["model_name"],
+                f"serial {unit['serial']}" if unit["serial"] else "",
+            )
+            if part
+        ),
+        outcomes=[test["outcome"] for test in snapshot["tests"]],
+        statement=snapshot["statement"],
+        superseded_by=getattr(getattr(certificate, "superseded_by", None), "number", None),
+        supersedes=snapshot["certificate"]["supersedes"],
+    )
+    return answer
+
+
+def receipt_data(job: Job) -> dict:
+    """The intake receipt's content, read live from the job (receipts are not certificates)."""
+    unit = job.unit
+    return {
+        "schema": "receipt/1",
+        "paper_size": settings.CERTIFICATE_PAPER_SIZE,
+        "shop": {
+            "name": settings.SHOP_NAME,
+            "address": settings.SHOP_ADDRESS,
+            "phone": settings.SHOP_PHONE,
+        },
+        "terms": settings.SHOP_TERMS,
+        "job": {
+            "number": job.number,
+            "received_on": job.received_on.isoformat(),
+            "promised_on": job.promised_on.isoformat() if job.promised_on else None,
+            "complaint": job.complaint,
+            "estimate": f"{job.estimate:.2f}" if job.estimate is not None else None,
+        },
+        "customer": {"name": unit.owner.name, "phone": unit.owner.phone},
+        "unit": {
+            "category": unit.get_category_display(),
+            "maker": unit.maker,
+            "model_name": unit.model_name,
+            "serial": unit.serial,
+            "year": unit.year,
+            "rated_voltage": f"{unit.rated_voltage.normalize():f} V",
+            "rated_power": f"{unit.rated_power.normalize():f} {unit.rated_power_unit}",
+            "construction": unit.get_construction_display(),
+            "chassis_may_be_live": unit.chassis_may_be_live,
+        },
+        "condition": unit.condition_notes,
+        "next_steps": list(NEXT_STEPS),
+        "caution": POWER_UP_CAUTION,
+    }

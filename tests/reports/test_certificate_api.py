@@ -1,0 +1,188 @@
+"""Certificate API, receipt, public verification and the re-hash command."""
+
+from __future__ import annotations
+
+import io
+from io import StringIO
+
+import pytest
+from django.core.management import call_command
+from django.core.management.base import CommandError
+from pypdf import PdfReader
+
+from reports import services
+from reports.models import Certificate
+
+ROLES = ["front_desk", "technician", "lead", "nobody", None]
+
+
+@pytest.fixture
+def certificate(closed_test, staff):
+    return services.certificate_issue(job=closed_test.job, issued_by=staff["lead"])
+
+
+def pdf_text(content: bytes) -> str:
+    return " ".join(
+        " ".join(page.extract_text().split()) for page in PdfReader(io.BytesIO(content)).pages
+    )
+
+
+def tamper(certificate: Certificate, new_snapshot: str) -> None:
+    # Bypasses the model's refusal on purpose: what an attacker with database access does.
+    Certificate.objects.filter(pk=certificate.pk).update(snapshot=new_snapshot)
+
+
+def test_a_lead_issues_downloads_and_supersedes_and_the_old_one_verifies_superseded(
+    closed_test, client_for
+):
+    lead = client_for("lead")
+    issued = lead.post("/api/certificates/", {"job": closed_test.job_id}, format="json")
+    assert issued.status_code == 201, issued.content
+    body = issued.json()
+    pdf = lead.get(f"/api/certificates/{body['id']}/pdf/")
+    assert pdf.status_code == 200
+    assert pdf["Content-Type"] == "application/pdf"
+    assert f'filename="certificate-{body["number"]}.pdf"' in pdf["Content-Disposition"]
+    text = pdf_text(pdf.content)
+    assert body["number"] in text
+    assert "not an electrical safety" in text.lower()
+    newer = lead.post(
+        f"/api/certificates/{body['id']}/supersede/",
+        {"reason": "Serial number corrected"},
+        format="json",
+    )
+    assert newer.status_code == 201
+    check = client_for(None).get(
+        f"/verify/{body['number']}/", {"code": body["verification_code"], "format": "json"}
+    )
+    assert check.status_code == 200
+    assert check.json()["status"] == "superseded"
+    assert check.json()["superseded_by"] == newer.json()["number"]
+
+
+def test_the_same_certificate_renders_identical_bytes(certificate, client_for):
+    lead = client_for("lead")
+    first = lead.get(f"/api/certificates/{certificate.pk}/pdf/").content
+    assert lead.get(f"/api/certificates/{certificate.pk}/pdf/").content == first
+
+
+@pytest.mark.parametrize("role", ROLES)
+def test_only_leads_issue(closed_test, client_for, role):
+    response = client_for(role).post(
+        "/api/certificates/", {"job": closed_test.job_id}, format="json"
+    )
+    expected = {None: 401, "lead": 201}.get(role, 403)
+    assert response.status_code == expected
+    assert Certificate.objects.count() == (1 if role == "lead" else 0)
+
+
+@pytest.mark.parametrize("role", ROLES)
+def test_every_role_reads_certificates_and_receipts(certificate, client_for, role):
+    client = client_for(role)
+    expected = 401 if role is None else 403 if role == "nobody" else 200
+    assert client.get("/api/certificates/").status_code == expected
+    assert client.get(f"/api/certificates/{certificate.pk}/").status_code == expected
+    assert client.get(f"/api/certificates/{certificate.pk}/pdf/").status_code == expected
+    assert client.get(f"/api/jobs/{certificate.job_id}/receipt.pdf").status_code == expected
+
+
+@pytest.mark.parametrize("role", ["front_desk", "technician"])
+def test_only_leads_supersede_and_revoke(certificate, client_for, role):
+    client = client_for(role)
+    base = f"/api/certificates/{certificate.pk}"
+    assert client.post(f"{base}/supersede/", {"reason": "x"}, format="json").status_code == 403
+    assert client.post(f"{base}/revoke/", {"reason": "x"}, format="json").status_code == 403
+
+
+def test_an_issued_certificate_cannot_be_edited_or_deleted_over_the_api(certificate, client_for):
+    lead = client_for("lead")
+    assert (
+        lead.patch(
+            f"/api/certificates/{certificate.pk}/", {"number": "X"}, format="json"
+        ).status_code
+        == 405
+    )
+    assert lead.delete(f"/api/certificates/{certificate.pk}/").status_code == 405
+
+
+def test_revoking_twice_answers_409(certificate, client_for):
+    lead = client_for("lead")
+    url = f"/api/certificates/{certificate.pk}/revoke/"
+    assert lead.post(url, {"reason": "Wrong unit tested"}, format="json").status_code == 200
+    again = lead.post(url, {"reason": "again"}, format="json")
+    assert again.status_code == 409
+    assert again.json()["error"]["code"] == "already_revoked"
+
+
+def test_issuing_without_a_closed_test_answers_409(open_test, client_for):
+    response = client_for("lead").post(
+        "/api/certificates/", {"job": open_test.job_id}, format="json"
+    )
+    assert response.status_code == 409
+    assert response.json()["error"]["code"] == "no_closed_test"
+
+
+def test_verification_answers_without_contact_data(certificate, client_for):
+    response = client_for(None).get(
+        f"/verify/{certificate.number}/", {"code": certificate.verification_code, "format": "json"}
+    )
+    body = response.json()
+    assert (body["status"], body["intact"]) == ("valid", True)
+    assert body["outcomes"] == [certificate.tests.get().verdict.outcome]
+    owner = certificate.job.unit.owner
+    assert owner.phone not in response.content.decode()
+    assert owner.email not in response.content.decode()
+    assert owner.name not in response.content.decode()
+
+
+def test_a_wrong_code_and_an_unknown_number_answer_alike(certificate, client_for):
+    anonymous = client_for(None)
+    wrong = anonymous.get(f"/verify/{certificate.number}/", {"code": "AAAAA", "format": "json"})
+    unknown = anonymous.get("/verify/C-1999-0001/", {"code": "AAAAA", "format": "json"})
+    assert wrong.status_code == unknown.status_code == 404
+    strip = {"number"}
+    assert {k: v for k, v in wrong.json().items() if k not in strip} == {
+        k: v for k, v in unknown.json().items() if k not in strip
+    }
+
+
+def test_the_verification_page_is_html_for_browsers(certificate, client_for):
+    response = client_for(None).get(
+        f"/verify/{certificate.number}/",
+        {"code": certificate.verification_code},
+        HTTP_ACCEPT="text/html",
+    )
+    assert response.status_code == 200
+    assert response["Content-Type"].startswith("text/html")
+    assert f"Certificate {certificate.number}: valid" in response.content.decode()
+
+
+def test_tampering_is_caught_by_verification_and_the_command(certificate, client_for):
+    tamper(certificate, certificate.snapshot.replace('"outcome":"', '"outcome":"x'))
+    body = (
+        client_for(None)
+        .get(
+            f"/verify/{certificate.number}/",
+            {"code": certificate.verification_code, "format": "json"},
+        )
+        .json()
+    )
+    assert (body["status"], body["intact"]) == ("tampered", False)
+    with pytest.raises(CommandError, match="1 of 1"):
+        call_command("certificates_verify", stdout=StringIO(), stderr=StringIO())
+
+
+def test_the_command_passes_untouched_certificates(certificate):
+    out = StringIO()
+    call_command("certificates_verify", stdout=out)
+    assert "All 1 certificates match" in out.getvalue()
+
+
+def test_the_receipt_is_a_pdf_with_the_job_and_the_caution(job, client_for):
+    response = client_for("front_desk").get(f"/api/jobs/{job.pk}/receipt.pdf")
+    assert response.status_code == 200
+    assert f'filename="receipt-{job.number}.pdf"' in response["Content-Disposition"]
+    text = pdf_text(response.content)
+    assert job.number in text
+    assert "controlled conditions" in text
+    assert job.unit.serial in text
