@@ -24,6 +24,7 @@ from shop.physics.circuit import (
 )
 from shop.physics.judgement import METER_ABSOLUTE_ACCURACY, METER_RELATIVE_ACCURACY
 from shop.physics.loads import ResistiveLoad
+from shop.physics.switch_mode import CANNOT_RUN_SENTENCE
 
 # A healthy unit should get at least three quarters of the source through the lamp, or it may
 # not start or may look faulty (common practice, no source).
@@ -212,7 +213,9 @@ def advise_lamp(
             # Beyond the lamp's table: it would burn out; there are no figures to give.
             fault = volts = doubled = np.nan
             glow = "bright"
-        sensitivity = volts - doubled
+        cannot_run = np.isnan(volts) and not under_rated
+        # A doubling that leaves the unit no operating point stops it: its volts collapse.
+        sensitivity = volts if np.isnan(doubled) else volts - doubled
         uncertainty = meter_relative_accuracy * volts + meter_absolute_accuracy
         fraction = volts / source
         if under_rated:
@@ -223,6 +226,10 @@ def advise_lamp(
                 "for the mains"
             )
             key = fault
+        elif cannot_run:
+            suitability = TOO_SMALL
+            verdict = f"too small: a healthy unit {CANNOT_RUN_SENTENCE}; choose a larger lamp"
+            key = np.inf
         elif fraction < min_load_fraction:
             suitability = TOO_SMALL
             verdict = (
@@ -242,12 +249,19 @@ def advise_lamp(
             suitability = SUITABLE
             verdict = "suitable"
             key = fault
-        reason = (
-            f"{label}: a dead short at {source:g} V draws at most {fault:.2g} A; a "
-            f"healthy {declared} unit gets {volts:.3g} V ({100 * fraction:.0f} % of the "
-            f"source) and a doubling of its draw would move that by {sensitivity:.2g} V; "
-            f"{verdict}"
-        )
+        if cannot_run:
+            reason = f"{label}: a dead short at {source:g} V draws at most {fault:.2g} A; {verdict}"
+        else:
+            change = (
+                "leave it no operating point (it would cycle)"
+                if np.isnan(doubled)
+                else f"move that by {sensitivity:.2g} V"
+            )
+            reason = (
+                f"{label}: a dead short at {source:g} V draws at most {fault:.2g} A; a "
+                f"healthy {declared} unit gets {volts:.3g} V ({100 * fraction:.0f} % of the "
+                f"source) and a doubling of its draw would {change}; {verdict}"
+            )
         entries.append(
             (
                 SUITABILITIES.index(suitability),

@@ -4,7 +4,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from shop.physics.glow import GLOW_CLASSES
 from shop.physics.loads import Load
+from shop.physics.roots import bracketed_root
 
 DEFAULT_FREQUENCY = 60.0  # [Hz]
 
@@ -14,9 +16,16 @@ DEFAULT_FREQUENCY = 60.0  # [Hz]
 SOLVER_RELATIVE_TOLERANCE = 1e-13
 # A point whose residual is still above this after the polish is a solver failure, reported.
 SOLVER_RESIDUAL_LIMIT = 1e-9  # [V] per volt of source above 1 V
-SOLVER_MAX_ITERATIONS = 100
 # Doublings of the first current guess allowed while bracketing a bypassed operating point.
 BRACKET_MAX_DOUBLINGS = 60
+
+# What the unit does at each point: a steady operating point; off (a switch-mode input below
+# its start voltage, drawing nothing); or no operating point at all (a constant-power unit that
+# cannot draw its power through the lamp: it cycles or does not start).
+STEADY = "steady"
+OFF = "off"
+NO_OPERATING_POINT = "no_operating_point"
+OPERATING_STATES = (STEADY, OFF, NO_OPERATING_POINT)
 
 
 @dataclass(frozen=True)
@@ -45,7 +54,12 @@ class SeriesResult:
     filament_temperature : numpy.ndarray
         Lamp filament temperature [K] (ambient when the lamp is bypassed).
     glow : numpy.ndarray
-        Glow class of the lamp (str), one of ``shop.physics.glow.GLOW_CLASSES``.
+        Glow class of the lamp (str), one of ``shop.physics.glow.GLOW_CLASSES``; empty
+        where there is no operating point.
+    state : numpy.ndarray
+        One of ``OPERATING_STATES`` (str) per point. Where it is ``no_operating_point``
+        every number above is NaN: the unit cannot draw its power through the lamp and
+        will cycle or not start.
     """
 
     source_voltage: np.ndarray
@@ -56,6 +70,12 @@ class SeriesResult:
     load_power: np.ndarray
     filament_temperature: np.ndarray
     glow: np.ndarray
+    state: np.ndarray = None
+
+    @property
+    def operating(self):
+        """Where the unit has a steady operating point (running or off) [bool array]."""
+        return np.asarray(self.state) != NO_OPERATING_POINT
 
 
 def check_voltage(value, name):
@@ -104,106 +124,6 @@ def check_load(load):
             f"load must follow the load protocol of shop.physics.loads (rated_power, "
             f"impedance, scaled, describe, may_cycle); got {type(load).__name__}"
         )
-
-
-def bracketed_root(
-    function,
-    lower,
-    upper,
-    f_lower,
-    f_upper,
-    tolerance,
-    start=None,
-    max_iterations=SOLVER_MAX_ITERATIONS,
-):
-    """Roots of a vectorised function, each inside its own sign-changing bracket.
-
-    Parameters
-    ----------
-    function : callable
-        ``function(x)`` returns the residual for every element of the 1-D array
-        ``x`` (evaluated all at once; elements already converged are ignored).
-    lower, upper : numpy.ndarray
-        1-D brackets, ``lower <= upper``, with ``f_lower`` and ``f_upper`` of
-        opposite sign (or one of them within ``tolerance`` of zero).
-    f_lower, f_upper : numpy.ndarray
-        Residuals at the bracket ends.
-    tolerance : numpy.ndarray or float
-        A root is accepted once ``|function(x)| <= tolerance``.
-    start : numpy.ndarray, optional
-        A better first estimate inside each bracket than the secant through its
-        ends (e.g. from a higher-order interpolation).
-    max_iterations : int
-        Iterations allowed; the bracket also stops once it is a few ulp wide.
-
-    Returns
-    -------
-    x, residual : numpy.ndarray
-        The roots and the residual at each.
-
-    Notes
-    -----
-    Safeguarded secant: while the residual keeps halving, each step is the
-    secant through the last two iterates; otherwise it is Illinois false
-    position (Dowell & Jarratt 1971), the secant through the bracket ends with
-    the residual of an end kept twice halved. Every step is checked to lie
-    inside the bracket, which shrinks each time and guarantees convergence;
-    a step that would leave it falls back to bisection.
-
-    References
-    ----------
-    M. Dowell and P. Jarratt, "A modified regula falsi method for computing
-    the root of an equation", BIT 11, 168-174 (1971).
-    """
-    lower = np.array(lower, dtype=float)
-    upper = np.array(upper, dtype=float)
-    f_lower = np.array(f_lower, dtype=float)
-    f_upper = np.array(f_upper, dtype=float)
-    tolerance = np.broadcast_to(np.asarray(tolerance, dtype=float), lower.shape)
-    at_upper = np.abs(f_upper) <= tolerance
-    x = np.where(at_upper, upper, lower)
-    residual = np.where(at_upper, f_upper, f_lower)
-    done = np.abs(residual) <= tolerance
-    nearer_upper = np.abs(f_upper) < np.abs(f_lower)
-    previous = np.where(nearer_upper, upper, lower)
-    f_previous = np.where(nearer_upper, f_upper, f_lower)
-    kept = np.zeros(lower.shape, dtype=int)  # +1: upper end kept last step, -1: lower end
-    for iteration in range(max_iterations):
-        active = ~done
-        if not active.any():
-            break
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = (lower * f_upper - upper * f_lower) / (f_upper - f_lower)
-            secant = x - residual * (x - previous) / (residual - f_previous)
-        if iteration == 0 and start is not None:
-            step = np.array(start, dtype=float)
-        elif iteration > 0:
-            # The secant through the last two iterates, while it keeps halving the residual.
-            improving = np.abs(residual) <= 0.5 * np.abs(f_previous)
-            step = np.where(improving & (secant > lower) & (secant < upper), secant, step)
-        outside = ~((step > lower) & (step < upper))
-        step = np.where(outside, 0.5 * (lower + upper), step)
-        step = np.where(active, step, x)
-        f_step = function(step)
-        previous = np.where(active, x, previous)
-        f_previous = np.where(active, residual, f_previous)
-        x = np.where(active, step, x)
-        residual = np.where(active, f_step, residual)
-        converged = active & (np.abs(f_step) <= tolerance)
-        moving = active & ~converged
-        replace_upper = moving & (np.sign(f_step) == np.sign(f_upper))
-        replace_lower = moving & ~replace_upper
-        f_lower = np.where(replace_upper & (kept == 1), 0.5 * f_lower, f_lower)
-        f_upper = np.where(replace_lower & (kept == -1), 0.5 * f_upper, f_upper)
-        upper = np.where(replace_upper, step, upper)
-        f_upper = np.where(replace_upper, f_step, f_upper)
-        lower = np.where(replace_lower, step, lower)
-        f_lower = np.where(replace_lower, f_step, f_lower)
-        kept = np.where(replace_upper, 1, np.where(replace_lower, -1, kept))
-        width = upper - lower
-        collapsed = width <= 4 * np.finfo(float).eps * np.maximum(np.abs(lower), np.abs(upper))
-        done |= converged | (moving & collapsed)
-    return x, residual
 
 
 def _solver_tolerance(source_voltage):
@@ -365,9 +285,99 @@ def _checked(load, source_voltage, source_resistance, frequency):
     )
 
 
-def _result(lamp, load, target, lamp_voltage, current, frequency, open_):
+def _constant_power_solution(lamp, load, target, source_resistance, bypassed):
+    """Lamp volts, current, open mask and state for a constant-power unit (see its Notes)."""
+    power = np.asarray(load.rated_power, dtype=float)
+    shape = np.broadcast_shapes(target.shape, power.shape)
+    flat_target = np.broadcast_to(target, shape).ravel()
+    flat_power = np.broadcast_to(power, shape).ravel()
+    lamp_voltage = np.zeros(flat_target.size)
+    current = np.zeros(flat_target.size)
+    state = np.full(flat_target.size, STEADY, dtype=f"<U{max(map(len, OPERATING_STATES))}")
+    off = (flat_power == 0) | (flat_target < load.start_voltage)
+    state[off] = OFF
+    running = ~off & np.isfinite(flat_power)
+    state[~off & ~running] = NO_OPERATING_POINT
+    if bypassed:
+        # V_s = R_s I + P / I: the root on the falling side, written without cancellation.
+        with np.errstate(invalid="ignore"):
+            root = np.sqrt(flat_target**2 - 4.0 * flat_power * source_resistance)
+            current = np.where(running, 2.0 * flat_power / (flat_target + root), 0.0)
+        state[running & np.isnan(current)] = NO_OPERATING_POINT
+    elif running.any():
+        curve = lamp.curve()
+        grid_voltage = np.asarray(curve.voltage[1:], dtype=float)
+        grid_current = np.asarray(curve.current[1:], dtype=float)
+        powers, column = np.unique(flat_power[running], return_inverse=True)
+        required = (grid_voltage + source_resistance * grid_current)[:, None] + powers[
+            None, :
+        ] / grid_current[:, None]
+        lowest = np.argmin(required, axis=0)
+        points = np.flatnonzero(running)
+        goal = flat_target[points]
+        reachable = goal >= required[lowest[column], column]
+        state[points[~reachable]] = NO_OPERATING_POINT
+        points, goal, column = points[reachable], goal[reachable], column[reachable]
+        if points.size:
+            falling = np.arange(grid_voltage.size)[:, None] <= lowest[column][None, :]
+            above = ((required[:, column] >= goal) & falling).sum(axis=0)
+            index = np.clip(above, 1, np.maximum(lowest[column], 1))
+            lower = np.where(above == 0, 0.0, grid_voltage[index - 1])
+            upper = grid_voltage[index]
+            f_lower = np.where(above == 0, np.inf, required[index - 1, column] - goal)
+            f_upper = required[index, column] - goal
+            point_power = powers[column]
+
+            def residual(voltage):
+                amps = np.asarray(lamp.current(voltage), dtype=float)
+                with np.errstate(divide="ignore"):
+                    return voltage + source_resistance * amps + point_power / amps - goal
+
+            found, remainder = bracketed_root(
+                residual, lower, upper, f_lower, f_upper, _solver_tolerance(goal)
+            )
+            _check_residual(remainder, goal)
+            lamp_voltage[points] = found
+            current[points] = np.asarray(lamp.current(found), dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        unit_voltage = flat_power / current
+    stopped = (state == STEADY) & (unit_voltage < load.stop_voltage)
+    state[stopped] = NO_OPERATING_POINT
+    missing = state == NO_OPERATING_POINT
+    current = np.where(missing, np.nan, current)
+    lamp_voltage = np.where(missing, np.nan, lamp_voltage)
+    return (
+        lamp_voltage.reshape(shape),
+        current.reshape(shape),
+        (state == OFF).reshape(shape),
+        state.reshape(shape),
+    )
+
+
+def _operating_point(lamp, load, target, source_resistance, frequency, bypassed):
+    """Lamp volts, current, open mask and state: the solver each kind of load needs."""
+    if getattr(load, "constant_power", False):
+        return _constant_power_solution(lamp, load, target, source_resistance, bypassed)
+    if bypassed:
+        current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
+        lamp_voltage = np.zeros(current.shape)
+    else:
+        lamp_voltage, current, open_ = _series_solution(
+            lamp, load, target, source_resistance, frequency
+        )
+    state = np.full(current.shape, STEADY, dtype=f"<U{max(map(len, OPERATING_STATES))}")
+    return lamp_voltage, current, open_, state
+
+
+def _result(lamp, load, target, lamp_voltage, current, frequency, open_, state):
     target = np.broadcast_to(target, current.shape).copy()
     load_voltage, load_power = _unit_side(load, current, target, frequency, open_)
+    operating = state != NO_OPERATING_POINT
+    temperature = np.full(current.shape, np.nan)
+    glow = np.full(current.shape, "", dtype=f"<U{max(map(len, GLOW_CLASSES))}")
+    if operating.any():
+        temperature[operating] = lamp.filament_temperature(lamp_voltage[operating])
+        glow[operating] = lamp.glow(lamp_voltage[operating])
     return SeriesResult(
         source_voltage=target,
         load_voltage=load_voltage,
@@ -375,8 +385,9 @@ def _result(lamp, load, target, lamp_voltage, current, frequency, open_):
         lamp_voltage=lamp_voltage,
         lamp_power=lamp_voltage * current,
         load_power=load_power,
-        filament_temperature=np.asarray(lamp.filament_temperature(lamp_voltage), dtype=float),
-        glow=np.asarray(lamp.glow(lamp_voltage)),
+        filament_temperature=temperature,
+        glow=glow,
+        state=state,
     )
 
 
@@ -431,14 +442,19 @@ def solve_series(lamp, load, source_voltage, source_resistance=0.0, frequency=DE
     residual is about 1e-13 of the source voltage. The drops add as phasors,
     never as RMS numbers. A unit whose impedance is infinite is open: no
     current flows and it sees the whole source voltage.
+
+    A constant-power unit (``load.constant_power``, e.g.
+    :class:`shop.physics.switch_mode.ConstantPowerLoad`) needs a source voltage that falls
+    and then rises with the current; it is solved on the falling side (the state a running
+    supply settles in), and a point below the minimum, or whose unit volts fall below the
+    unit's stop voltage, is reported in ``state`` as ``no_operating_point`` with NaN
+    numbers, never as an error. Below its start voltage the unit is off and draws nothing.
     """
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    lamp_voltage, current, open_ = _series_solution(
-        lamp, load, target, source_resistance, frequency
-    )
-    return _result(lamp, load, target, lamp_voltage, current, frequency, open_)
+    solution = _operating_point(lamp, load, target, source_resistance, frequency, False)
+    return _result(lamp, load, target, *solution[:2], frequency, *solution[2:])
 
 
 def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=DEFAULT_FREQUENCY):
@@ -472,8 +488,8 @@ def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
-    return _result(lamp, load, target, np.zeros(current.shape), current, frequency, open_)
+    solution = _operating_point(lamp, load, target, source_resistance, frequency, True)
+    return _result(lamp, load, target, *solution[:2], frequency, *solution[2:])
 
 
 def unit_operating_point(
@@ -510,15 +526,15 @@ def unit_operating_point(
     -------
     load_voltage, current : numpy.ndarray
         RMS unit volts [V] and current [A], shaped like ``source_voltage``
-        broadcast against the load's parameters.
+        broadcast against the load's parameters; NaN where a constant-power unit has
+        no operating point.
     """
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    if lamp_bypassed:
-        current, open_ = _bypassed_solution(load, target, source_resistance, frequency)
-    else:
-        _, current, open_ = _series_solution(lamp, load, target, source_resistance, frequency)
+    _, current, open_, _ = _operating_point(
+        lamp, load, target, source_resistance, frequency, lamp_bypassed
+    )
     load_voltage, _ = _unit_side(
         load, current, np.broadcast_to(target, current.shape), frequency, open_
     )

@@ -46,6 +46,9 @@ Reason codes (module constants; each reason carries a sentence with the numbers)
 - ``bypass_without_current`` (inconclusive): the only full-source readings
   were taken with the lamp bypassed and no current measured, so the unit's
   volts follow the source whatever it draws.
+- ``load_cannot_run`` (inconclusive): at a reading's source voltage a healthy
+  unit of the declared constant-power load has no operating point through the
+  lamp (it cycles or does not start), so the reading cannot be judged.
 - ``all_in_band`` (pass).
 """
 
@@ -55,6 +58,9 @@ import numpy as np
 
 from shop.physics.circuit import (
     DEFAULT_FREQUENCY,
+    NO_OPERATING_POINT,
+    OFF,
+    STEADY,
     bracketed_root,
     check_frequency,
     check_load,
@@ -64,6 +70,7 @@ from shop.physics.circuit import (
     unit_operating_point,
 )
 from shop.physics.glow import GLOW_CLASSES
+from shop.physics.switch_mode import CANNOT_RUN_SENTENCE
 
 OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
 BEHAVIOURS = ("steady", "flash_then_dims", "cycling")
@@ -119,6 +126,7 @@ GLOW_CYCLING_UNEXPECTED = "glow_cycling_unexpected"
 SOURCE_NOT_FULL = "source_not_full"
 LAMP_TOO_LARGE = "lamp_too_large"
 BYPASS_WITHOUT_CURRENT = "bypass_without_current"
+LOAD_CANNOT_RUN = "load_cannot_run"
 ALL_IN_BAND = "all_in_band"
 
 # The outcome each reason code leads to; the verdict takes the worst present.
@@ -134,12 +142,24 @@ REASON_OUTCOMES = {
     SOURCE_NOT_FULL: "inconclusive",
     LAMP_TOO_LARGE: "inconclusive",
     BYPASS_WITHOUT_CURRENT: "inconclusive",
+    LOAD_CANNOT_RUN: "inconclusive",
     ALL_IN_BAND: "pass",
 }
 OUTCOME_SEVERITY = ("pass", "inconclusive", "marginal", "fail")
 
 IN_BAND = "in_band"
-READING_STATUSES = (IN_BAND, DRAW_ABOVE_BAND, DRAW_BELOW_BAND, DRAW_HIGH, DRAW_NEAR_ZERO)
+READING_STATUSES = (
+    IN_BAND,
+    DRAW_ABOVE_BAND,
+    DRAW_BELOW_BAND,
+    DRAW_HIGH,
+    DRAW_NEAR_ZERO,
+    LOAD_CANNOT_RUN,
+)
+# A predicted reading whose scale value misses the measured one by more than this after the
+# draw search lies on the edge of the draws that let the unit run: the reading shows more
+# than any running unit of the declared kind can draw.
+DRAW_EDGE_RESIDUAL = 1e-3
 
 
 def _optional_non_negative(value, name, unit):
@@ -272,6 +292,12 @@ class ReadingJudgement:
         Uncertainty of the measured quantity here [V or A, as ``measured``].
     sensitive : bool
         Whether a doubling of draw shows above the meter's uncertainty.
+    predicted_state : str
+        What a healthy unit does here, one of ``shop.physics.circuit.OPERATING_STATES``;
+        with ``no_operating_point`` the predictions are NaN and the glow words empty.
+    may_cycle : bool
+        Whether a healthy unit within the band may have no operating point here, so that a
+        cycling glow is to be expected.
     """
 
     index: int
@@ -294,6 +320,8 @@ class ReadingJudgement:
     current_sensitivity: float
     meter_uncertainty: float
     sensitive: bool
+    predicted_state: str = STEADY
+    may_cycle: bool = False
 
 
 @dataclass(frozen=True)
@@ -355,11 +383,12 @@ def _on_last_axis(values, mask):
 
 
 def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
-    """Unit volts, current and glow for ``load.scaled(factor)``, the lamp in or bypassed."""
+    """Unit volts, current, glow and state for ``load.scaled(factor)``, lamp in or bypassed."""
     shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
     load_voltage = np.empty(shape)
     current = np.empty(shape)
     glow = np.empty(shape, dtype=f"<U{max(map(len, GLOW_CLASSES))}")
+    state = np.empty(shape, dtype=f"<U{len(NO_OPERATING_POINT)}")
     for mask, solve in ((~bypassed, solve_series), (bypassed, solve_bypassed)):
         if mask.any():
             result = solve(
@@ -372,7 +401,8 @@ def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, fr
             load_voltage[..., mask] = result.load_voltage
             current[..., mask] = result.current
             glow[..., mask] = result.glow
-    return load_voltage, current, glow
+            state[..., mask] = result.state
+    return load_voltage, current, glow, state
 
 
 def _predict_meters(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
@@ -431,6 +461,9 @@ def _infer_draw(
     """
     log_grid = np.log(np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS))
     rising = _draw_scale(grid_voltage, grid_current, source_voltage, by_current)
+    # A draw with no operating point (a constant-power unit that cannot run) lies beyond
+    # every reading a running unit can give.
+    rising = np.where(np.isnan(grid_voltage), np.inf, rising)
     target = _draw_scale(measured, measured, source_voltage, by_current)
     with np.errstate(invalid="ignore"):
         # A reading whose prediction does not move with the draw cannot tell it.
@@ -464,10 +497,11 @@ def _infer_draw(
             lamp, load, np.exp(log_draw), source_voltage, bypassed, source_resistance, frequency
         )
         scale = _draw_scale(load_voltage, current, source_voltage, by_current)
+        scale = np.where(np.isnan(load_voltage), np.inf, scale)
         with np.errstate(invalid="ignore"):
             return np.where(interior, scale - target, 0.0)
 
-    log_draw, _ = bracketed_root(
+    log_draw, remainder = bracketed_root(
         residual,
         lower,
         upper,
@@ -476,7 +510,8 @@ def _infer_draw(
         DRAW_TOLERANCE,
         start=np.where(interior, start, lower),
     )
-    draw = np.where(never, np.inf, np.exp(log_draw))
+    beyond_running = interior & ~(np.abs(remainder) <= DRAW_EDGE_RESIDUAL)
+    draw = np.where(never | beyond_running, np.inf, np.exp(log_draw))
     draw = np.where(below_all, 0.0, draw)
     return np.where(flat, np.nan, draw)
 
@@ -489,7 +524,9 @@ def _amps(value):
     return f"{value:.2g} A"
 
 
-def _draw(value):
+def _draw(value, constant_power=False):
+    if np.isinf(value) and constant_power:
+        return "more than it can draw through this lamp and keep running"
     if np.isinf(value):
         return f"more than {DRAW_SEARCH_RANGE[1]:g}x declared (a dead short)"
     if value == 0:
@@ -660,7 +697,7 @@ def judge(
 
     # Healthy unit, doubled draw and the search grid of draws, all in one solve.
     draws = np.concatenate([[1.0, 2.0], np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS)])
-    volts_k, amps_k, glow_k = _predict(
+    volts_k, amps_k, glow_k, state_k = _predict(
         lamp, load, draws[:, None], source_3, bypassed_3, source_resistance, frequency
     )
     draw_3 = _infer_draw(
@@ -676,7 +713,12 @@ def judge(
         frequency,
     )
     draw, least_draw, most_draw = draw_3[:n], draw_3[n : 2 * n], draw_3[2 * n :]
-    volts_k, amps_k, glow_k = volts_k[:, :n], amps_k[:, :n], glow_k[:, :n]
+    volts_k, amps_k, glow_k, state_k = (
+        volts_k[:, :n],
+        amps_k[:, :n],
+        glow_k[:, :n],
+        state_k[:, :n],
+    )
 
     # Band corners: source reading low then high, heavy then light load, for each lamp limit.
     corners_source = np.concatenate([source_low, source_high])
@@ -700,13 +742,22 @@ def judge(
     current_high = corners["large"][1][0, high]
     glow_brightest = corners["small"][2][0, high]
     glow_dimmest = corners["large"][2][1, low]
+    # Where the heaviest corner has no operating point its unit cycles: its volts may fall
+    # to nothing, its current and glow flash up.
+    cannot_run = state_k[0] == NO_OPERATING_POINT
+    heavy_cycles = np.isnan(volts_low) | np.isnan(current_high)
+    volts_low = np.where(heavy_cycles & ~cannot_run, 0.0, volts_low)
+    current_high = np.where(heavy_cycles & ~cannot_run, np.inf, current_high)
+    glow_brightest = np.where(heavy_cycles & ~cannot_run, "bright", glow_brightest)
     volts_low = np.maximum(volts_low - _uncertainty(volts_low, *meter), 0.0)
     volts_high = volts_high + _uncertainty(volts_high, *meter)
     current_low = np.maximum(current_low - _uncertainty(current_low, *ammeter), 0.0)
     current_high = current_high + _uncertainty(current_high, *ammeter)
 
-    sensitivity = volts_k[0] - volts_k[1]
-    current_sensitivity = amps_k[1] - amps_k[0]
+    # A doubling that leaves no operating point stops the unit: its volts collapse.
+    doubled_stops = np.isnan(volts_k[1]) & ~cannot_run
+    sensitivity = np.where(doubled_stops, volts_k[0], volts_k[0] - volts_k[1])
+    current_sensitivity = np.where(doubled_stops, np.inf, amps_k[1] - amps_k[0])
     uncertainty = np.where(
         by_current, _uncertainty(amps_k[0], *ammeter), _uncertainty(volts_k[0], *meter)
     )
@@ -724,6 +775,13 @@ def judge(
     status[heavier & (least_draw >= fail_multiple)] = DRAW_HIGH
     status[lighter] = DRAW_BELOW_BAND
     status[lighter & (most_draw <= open_multiple)] = DRAW_NEAR_ZERO
+    # A healthy unit that has not started draws nothing at any multiple of its power: a
+    # reading beyond the band there draws where it should draw nothing at all.
+    drawing_while_off = heavier & (state_k[0] == OFF)
+    status[drawing_while_off] = DRAW_HIGH
+    for values in (draw, least_draw, most_draw):
+        values[drawing_while_off] = np.inf
+    status[cannot_run] = LOAD_CANNOT_RUN
 
     judged = tuple(
         ReadingJudgement(
@@ -747,13 +805,16 @@ def judge(
             current_sensitivity=float(current_sensitivity[i]),
             meter_uncertainty=float(uncertainty[i]),
             sensitive=bool(sensitive[i]),
+            predicted_state=str(state_k[0, i]),
+            may_cycle=bool(cannot_run[i] | heavy_cycles[i]),
         )
         for i in range(n)
     )
     declared = f"a healthy {float(np.max(load.rated_power)):.3g} W unit"
-    reasons = _draw_reasons(readings, judged, declared)
+    reasons = _draw_reasons(readings, judged, declared, getattr(load, "constant_power", False))
     reasons += _glow_reasons(readings, judged, load, declared)
-    if not any(reason.outcome in ("fail", "marginal") for reason in reasons):
+    reasons += _cannot_run_reasons(readings, judged, declared)
+    if not any(reason.outcome != "pass" for reason in reasons):
         reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
     reasons.sort(key=lambda reason: -OUTCOME_SEVERITY.index(reason.outcome))
     settings = {
@@ -776,27 +837,34 @@ def judge(
     )
 
 
-def _reading_sentence(reading, judged, declared):
+def _reading_sentence(reading, judged, declared, constant_power=False):
     where = f"at {_volts(reading.source_voltage)} source"
     if reading.lamp_bypassed:
         where += " with the lamp bypassed"
     if judged.measured == "current":
         seen = f"the unit drew {_amps(reading.current)}"
-        band = f"{declared} would draw {judged.current_low:.2g}-{_amps(judged.current_high)}"
+        if np.isinf(judged.current_high):
+            band = f"{declared} would draw at least {_amps(judged.current_low)} (more if it cycles)"
+        else:
+            band = f"{declared} would draw {judged.current_low:.2g}-{_amps(judged.current_high)}"
     else:
         seen = f"the unit read {_volts(reading.load_voltage)}"
         band = (
             f"{declared} would read {judged.load_voltage_low:.3g}-"
             f"{_volts(judged.load_voltage_high)}"
         )
-    sentence = f"{where} {seen}; {band}; inferred draw {_draw(judged.inferred_draw)}"
+    if judged.predicted_state == OFF:
+        drawn = "it draws where a healthy unit has not started and draws nothing"
+    else:
+        drawn = f"inferred draw {_draw(judged.inferred_draw, constant_power)}"
+    sentence = f"{where} {seen}; {band}; {drawn}"
     low, high = judged.inferred_draw_low, judged.inferred_draw_high
     if np.isfinite(low) and np.isfinite(high) and high > 0:
         sentence += f" ({low:.2g}-{high:.2g}x within the meters' uncertainty)"
     return sentence
 
 
-def _draw_reasons(readings, judged, declared):
+def _draw_reasons(readings, judged, declared, constant_power):
     advice = {
         DRAW_HIGH: "the unit draws far more than declared: look for a short or a failed part",
         DRAW_ABOVE_BAND: "the unit draws more than declared",
@@ -822,7 +890,7 @@ def _draw_reasons(readings, judged, declared):
                 "measure the current to tell"
             )
         more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
-        sentence = _reading_sentence(readings[worst.index], worst, declared)
+        sentence = _reading_sentence(readings[worst.index], worst, declared, constant_power)
         reasons.append(Reason(code, f"{sentence}: {text}{more}", worst.index))
     return reasons
 
@@ -836,18 +904,24 @@ def _glow_reasons(readings, judged, load, declared):
         if reading.lamp_bypassed:
             continue
         where = f"at {_volts(reading.source_voltage)} source"
-        if reading.behaviour_seen == "cycling" and not load.may_cycle:
-            found.setdefault(
-                GLOW_CYCLING_UNEXPECTED,
-                Reason(
-                    GLOW_CYCLING_UNEXPECTED,
+        if reading.behaviour_seen == "cycling" and not item.may_cycle:
+            if load.may_cycle:
+                text = (
+                    f"{where} the lamp's glow cycled; {declared} runs steadily through this "
+                    "lamp there: it restarts, so it draws more than declared or is shutting "
+                    "down on a fault"
+                )
+            else:
+                text = (
                     f"{where} the lamp's glow cycled; the declared load "
-                    f"({load.describe()['summary']}) holds a steady glow: look for an intermittent "
-                    "connection, a thermal cut-out, or a unit that is not what was declared",
-                    item.index,
-                ),
+                    f"({load.describe()['summary']}) holds a steady glow: look for an "
+                    "intermittent connection, a thermal cut-out, or a unit that is not what "
+                    "was declared"
+                )
+            found.setdefault(
+                GLOW_CYCLING_UNEXPECTED, Reason(GLOW_CYCLING_UNEXPECTED, text, item.index)
             )
-        if reading.glow_seen is None:
+        if reading.glow_seen is None or item.status == LOAD_CANNOT_RUN:
             continue
         seen = GLOW_CLASSES.index(reading.glow_seen)
         brightest = GLOW_CLASSES.index(item.glow_brightest)
@@ -888,6 +962,23 @@ def _glow_reasons(readings, judged, load, declared):
             )
     reasons.extend(found.values())
     return reasons
+
+
+def _cannot_run_reasons(readings, judged, declared):
+    hits = [item for item in judged if item.status == LOAD_CANNOT_RUN]
+    if not hits:
+        return []
+    top = max(hits, key=lambda item: readings[item.index].source_voltage)
+    more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
+    return [
+        Reason(
+            LOAD_CANNOT_RUN,
+            f"at {_volts(readings[top.index].source_voltage)} source {declared} "
+            f"{CANNOT_RUN_SENTENCE}, so the reading cannot be judged; use a larger lamp"
+            f"{more}",
+            top.index,
+        )
+    ]
 
 
 def _completion_reason(readings, judged, nominal, full_fraction):

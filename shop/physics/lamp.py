@@ -1,4 +1,4 @@
-"""Tungsten filament lamps and banks of them in parallel, as series current limiters."""
+"""Tungsten filaments: lamps and banks of them in parallel as series current limiters."""
 
 from typing import NamedTuple
 
@@ -11,8 +11,10 @@ from shop.physics.glow import GLOW_CLASSES, glow_class, luminance
 from shop.physics.materials import (
     TABLE_MAX_TEMPERATURE,
     TABLE_MIN_TEMPERATURE,
+    TUNGSTEN_DENSITY,
     tungsten_emissivity,
     tungsten_emissivity_derivative,
+    tungsten_heat_capacity,
     tungsten_resistivity,
     tungsten_resistivity_derivative,
 )
@@ -27,6 +29,9 @@ AMBIENT_TEMPERATURE_RANGE = (TABLE_MIN_TEMPERATURE, 350.0)
 # the filament would be within 300 K of melting (3695 K) and the model would reach less than
 # 1.2x rated voltage before the end of the resistivity table.
 RATED_TEMPERATURE_RANGE = (1500.0, 3400.0)
+# [K] Any tungsten filament the library models, lamps and valve heaters: heaters of
+# oxide-cathode valves run at roughly 1300-1500 K (from memory), far cooler than a lamp.
+FILAMENT_TEMPERATURE_RANGE = (1000.0, RATED_TEMPERATURE_RANGE[1])
 CONDUCTION_FRACTION_RANGE = (0.0, 0.9)
 
 # Filament temperature at rated voltage by fill, as (rated power [W], temperature [K]) pairs,
@@ -168,29 +173,24 @@ def _rated_temperature_from_cold_resistance(cold_resistance, hot_resistance, amb
     return temperature
 
 
-class Lamp:
+class Filament:
     """
-    A tungsten filament lamp in steady state, from its rating.
+    A tungsten filament (a lamp's, or a valve heater's) in steady state, from its rating.
 
     Parameters
     ----------
     rated_voltage : float
-        rated voltage, 6 to 300 [V]
+        rated voltage [V], positive
     rated_power : float
         rated power at rated voltage [W]
-    fill : str, default "gas"
-        "gas" (argon-nitrogen), "vacuum" or "halogen"
-    rated_temperature : float, optional
-        filament temperature at rated voltage [K]; default from ``DEFAULT_RATED_TEMPERATURE``
-        or, if ``cold_resistance`` is given, solved from it. Give one or the other.
-    cold_resistance : float, optional
-        measured filament resistance at ambient temperature [ohm]; refused if the rated
-        temperature it implies lies outside ``RATED_TEMPERATURE_RANGE``
+    rated_temperature : float
+        filament temperature at rated voltage, within ``FILAMENT_TEMPERATURE_RANGE`` [K]
+    conduction_fraction : float
+        share of rated power lost by conduction at rated temperature [-]
+    conduction_exponent : float
+        exponent n of the conduction loss ``G (T**n - T_amb**n)`` [-]
     ambient_temperature : float, default 300.0
-        temperature of the bench and the cold filament, 300 to 350 [K]
-    conduction_fraction : float, optional
-        share of rated power lost by conduction at rated temperature [-]; default from
-        ``DEFAULT_CONDUCTION_FRACTION``
+        temperature of the surroundings and the cold filament, 300 to 350 [K]
 
     Notes
     -----
@@ -204,11 +204,20 @@ class Lamp:
               + G (T^n - T_a^n),
 
     radiation with tungsten's total hemispherical emissivity plus conduction to the fill gas
-    and the leads (exponent n from ``CONDUCTION_EXPONENT``). A and G follow from
-    :math:`P_{loss}(T_r) = P_r` and the conduction fraction f:
-    :math:`G (T_r^n - T_a^n) = f P_r`. Both sides of the balance rise with T, so every
-    voltage has one filament temperature. The solution interpolates a dense precomputed
-    curve in V^2 and polishes it with Newton steps on :math:`P_{loss}(T) R(T) = V^2`.
+    and the leads. A and G follow from :math:`P_{loss}(T_r) = P_r` and the conduction
+    fraction f: :math:`G (T_r^n - T_a^n) = f P_r`. Both sides of the balance rise with T, so
+    every voltage (and every current) has one filament temperature. The solution interpolates
+    a dense precomputed curve and polishes it with Newton steps on
+    :math:`P_{loss}(T) R(T) = V^2` (or :math:`P_{loss}(T) = I^2 R(T)`).
+
+    The filament's size follows from the rating: a round wire of diameter d and length L has
+    :math:`R_h = 4 \\rho(T_r) L / (\\pi d^2)` and radiating area :math:`A = \\pi d L`, so
+
+    .. math:: d^3 = 4 \\rho(T_r) A / (\\pi^2 R_h), \\quad L = A / (\\pi d),
+
+    and its mass :math:`m = \\rho_m \\pi d^2 L / 4` with tungsten's density. A coiled
+    filament shades itself, so A is an effective area and d, L those of the straight wire
+    that radiates alike.
 
     References
     ----------
@@ -222,41 +231,25 @@ class Lamp:
         self,
         rated_voltage,
         rated_power,
-        fill="gas",
-        rated_temperature=None,
-        cold_resistance=None,
+        rated_temperature,
+        conduction_fraction,
+        conduction_exponent,
         ambient_temperature=300.0,
-        conduction_fraction=None,
     ):
-        self._rated_voltage = _check_scalar(
-            rated_voltage, "rated_voltage", "V", *RATED_VOLTAGE_RANGE
-        )
+        self._rated_voltage = _check_scalar(rated_voltage, "rated_voltage", "V", positive=True)
         self._rated_power = _check_scalar(rated_power, "rated_power", "W", positive=True)
-        self._fill = _check_fill(fill)
         self._ambient_temperature = _check_scalar(
             ambient_temperature, "ambient_temperature", "K", *AMBIENT_TEMPERATURE_RANGE
         )
-        if rated_temperature is not None and cold_resistance is not None:
-            raise ValueError(
-                "give rated_temperature or cold_resistance, not both: the cold "
-                "resistance fixes the rated temperature"
-            )
-        if cold_resistance is not None:
-            cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
-            rated_temperature = _rated_temperature_from_cold_resistance(
-                cold, self.hot_resistance, self._ambient_temperature
-            )
-        elif rated_temperature is None:
-            rated_temperature = default_rated_temperature(self._rated_power, fill)
         self._rated_temperature = _check_scalar(
-            rated_temperature, "rated_temperature", "K", *RATED_TEMPERATURE_RANGE
+            rated_temperature, "rated_temperature", "K", *FILAMENT_TEMPERATURE_RANGE
         )
-        if conduction_fraction is None:
-            conduction_fraction = DEFAULT_CONDUCTION_FRACTION[fill]
         self._conduction_fraction = _check_scalar(
             conduction_fraction, "conduction_fraction", "", *CONDUCTION_FRACTION_RANGE
         )
-        self._conduction_exponent = CONDUCTION_EXPONENT[fill]
+        self._conduction_exponent = _check_scalar(
+            conduction_exponent, "conduction_exponent", "", positive=True
+        )
 
         ambient, rated = self._ambient_temperature, self._rated_temperature
         self._rated_resistivity = float(tungsten_resistivity(rated))
@@ -282,11 +275,6 @@ class Lamp:
     def rated_power(self):
         """Rated power at rated voltage [W]."""
         return self._rated_power
-
-    @property
-    def fill(self):
-        """Fill of the bulb: one of ``FILLS``."""
-        return self._fill
 
     @property
     def rated_temperature(self):
@@ -320,15 +308,57 @@ class Lamp:
 
     @property
     def max_voltage(self):
-        """Lamp voltage at which the filament reaches the end of the resistivity table [V]."""
+        """Voltage at which the filament reaches the end of the resistivity table [V]."""
         return float(self._curve.voltage[-1])
+
+    @property
+    def wire_diameter(self):
+        """Diameter of the straight wire that radiates as the filament does [m] (see Notes)."""
+        return float(
+            (4.0 * self._rated_resistivity * self.radiation_area / (np.pi**2 * self.hot_resistance))
+            ** (1.0 / 3.0)
+        )
+
+    @property
+    def wire_length(self):
+        """Length of that wire [m]: ``A / (pi d)``."""
+        return self.radiation_area / (np.pi * self.wire_diameter)
+
+    @property
+    def mass(self):
+        """Mass of the filament [kg]: tungsten's density times the wire's volume."""
+        diameter = self.wire_diameter
+        return TUNGSTEN_DENSITY * np.pi * diameter**2 / 4.0 * self.wire_length
+
+    def heat_capacity(self, temperature):
+        """
+        Heat capacity of the whole filament at a filament temperature.
+
+        Parameters
+        ----------
+        temperature : numeric
+            filament temperature, 300 to 3600 [K]
+
+        Returns
+        -------
+        heat_capacity : numpy.ndarray
+            mass times tungsten's specific heat capacity, shaped like ``temperature`` [J/K]
+
+        Notes
+        -----
+        :math:`C(T) = m \\, c_p(T)`, with :math:`c_p` from the NIST-JANAF Shomate equation
+        (:func:`shop.physics.materials.tungsten_heat_capacity`).
+        """
+        return self.mass * tungsten_heat_capacity(temperature)
 
     def __repr__(self):
         return (
-            f"Lamp(rated_voltage={self._rated_voltage:g}, rated_power={self._rated_power:g}, "
-            f"fill={self._fill!r}, rated_temperature={self._rated_temperature:.1f}, "
-            f"ambient_temperature={self._ambient_temperature:g}, "
-            f"conduction_fraction={self._conduction_fraction:g})"
+            f"{type(self).__name__}(rated_voltage={self._rated_voltage:g}, "
+            f"rated_power={self._rated_power:g}, "
+            f"rated_temperature={self._rated_temperature:.1f}, "
+            f"conduction_fraction={self._conduction_fraction:g}, "
+            f"conduction_exponent={self._conduction_exponent:g}, "
+            f"ambient_temperature={self._ambient_temperature:g})"
         )
 
     def resistance_at_temperature(self, temperature):
@@ -398,13 +428,14 @@ class Lamp:
         for name, values in (("voltage", voltage), ("current", current)):
             if not np.all(np.diff(values) > 0.0):
                 raise ValueError(
-                    f"the lamp's {name} does not rise with filament temperature "
+                    f"the filament's {name} does not rise with filament temperature "
                     f"for these parameters: {self!r}"
                 )
         for values in (voltage, current, temperature):
             values.setflags(write=False)
         self._curve = LampCurve(voltage, current, temperature)
         self._temperature_of_squared_voltage = PchipInterpolator(squared_voltage, temperature)
+        self._temperature_of_squared_current = PchipInterpolator(current**2, temperature)
 
     def curve(self):
         """
@@ -449,6 +480,57 @@ class Lamp:
             )
             temperature = np.clip(
                 temperature - (loss * resistance - target) / slope, ambient, TABLE_MAX_TEMPERATURE
+            )
+        return temperature
+
+    def filament_temperature_at_current(self, current):
+        """
+        Steady-state filament temperature at an RMS current through the filament.
+
+        Parameters
+        ----------
+        current : numeric
+            RMS current through the filament, 0 to the current at ``max_voltage`` [A]
+
+        Returns
+        -------
+        temperature : numpy.ndarray
+            shaped like ``current``; ambient at zero current [K]
+
+        Notes
+        -----
+        Interpolates the curve in :math:`I^2` and polishes with Newton steps on
+        :math:`P_{loss}(T) = I^2 R(T)`; loss rises with T far faster than
+        :math:`I^2 R(T)` at a fixed current, so the step is well defined.
+        """
+        values = np.asarray(current, dtype=float)
+        if np.any(np.isnan(values)):
+            raise ValueError("current must be a number (got NaN)")
+        largest = float(self._curve.current[-1])
+        if np.any(values < 0.0) or np.any(values > largest):
+            worst = values.min() if np.any(values < 0.0) else values.max()
+            raise ValueError(
+                f"current must lie between 0 A and {largest:.4g} A, where the filament reaches "
+                f"{TABLE_MAX_TEMPERATURE:g} K, the end of the resistivity table (got {worst:g} A)"
+            )
+        target = values**2
+        temperature = self._temperature_of_squared_current(target)
+        ambient = self._ambient_temperature
+        for _ in range(NEWTON_STEPS):
+            slope = self._power_loss_derivative(temperature) - target * (
+                self.hot_resistance
+                * tungsten_resistivity_derivative(temperature)
+                / self._rated_resistivity
+            )
+            temperature = np.clip(
+                temperature
+                - (
+                    self.power_loss(temperature)
+                    - target * self.resistance_at_temperature(temperature)
+                )
+                / slope,
+                ambient,
+                TABLE_MAX_TEMPERATURE,
             )
         return temperature
 
@@ -501,6 +583,92 @@ class Lamp:
         """
         values = np.asarray(voltage, dtype=float)
         return values**2 / self.resistance(values)
+
+
+class Lamp(Filament):
+    """
+    A tungsten filament lamp in steady state, from its rating.
+
+    Parameters
+    ----------
+    rated_voltage : float
+        rated voltage, 6 to 300 [V]
+    rated_power : float
+        rated power at rated voltage [W]
+    fill : str, default "gas"
+        "gas" (argon-nitrogen), "vacuum" or "halogen"
+    rated_temperature : float, optional
+        filament temperature at rated voltage [K]; default from ``DEFAULT_RATED_TEMPERATURE``
+        or, if ``cold_resistance`` is given, solved from it. Give one or the other.
+    cold_resistance : float, optional
+        measured filament resistance at ambient temperature [ohm]; refused if the rated
+        temperature it implies lies outside ``RATED_TEMPERATURE_RANGE``
+    ambient_temperature : float, default 300.0
+        temperature of the bench and the cold filament, 300 to 350 [K]
+    conduction_fraction : float, optional
+        share of rated power lost by conduction at rated temperature [-]; default from
+        ``DEFAULT_CONDUCTION_FRACTION``
+
+    Notes
+    -----
+    The filament model of :class:`Filament`, with the conduction exponent of the fill
+    (``CONDUCTION_EXPONENT``) and a rated temperature within ``RATED_TEMPERATURE_RANGE``.
+    """
+
+    def __init__(
+        self,
+        rated_voltage,
+        rated_power,
+        fill="gas",
+        rated_temperature=None,
+        cold_resistance=None,
+        ambient_temperature=300.0,
+        conduction_fraction=None,
+    ):
+        voltage = _check_scalar(rated_voltage, "rated_voltage", "V", *RATED_VOLTAGE_RANGE)
+        power = _check_scalar(rated_power, "rated_power", "W", positive=True)
+        self._fill = _check_fill(fill)
+        ambient = _check_scalar(
+            ambient_temperature, "ambient_temperature", "K", *AMBIENT_TEMPERATURE_RANGE
+        )
+        if rated_temperature is not None and cold_resistance is not None:
+            raise ValueError(
+                "give rated_temperature or cold_resistance, not both: the cold "
+                "resistance fixes the rated temperature"
+            )
+        if cold_resistance is not None:
+            cold = _check_scalar(cold_resistance, "cold_resistance", "ohm", positive=True)
+            rated_temperature = _rated_temperature_from_cold_resistance(
+                cold, voltage**2 / power, ambient
+            )
+        elif rated_temperature is None:
+            rated_temperature = default_rated_temperature(power, fill)
+        rated_temperature = _check_scalar(
+            rated_temperature, "rated_temperature", "K", *RATED_TEMPERATURE_RANGE
+        )
+        if conduction_fraction is None:
+            conduction_fraction = DEFAULT_CONDUCTION_FRACTION[fill]
+        super().__init__(
+            voltage,
+            power,
+            rated_temperature,
+            conduction_fraction,
+            CONDUCTION_EXPONENT[fill],
+            ambient_temperature=ambient,
+        )
+
+    @property
+    def fill(self):
+        """Fill of the bulb: one of ``FILLS``."""
+        return self._fill
+
+    def __repr__(self):
+        return (
+            f"Lamp(rated_voltage={self._rated_voltage:g}, rated_power={self._rated_power:g}, "
+            f"fill={self._fill!r}, rated_temperature={self._rated_temperature:.1f}, "
+            f"ambient_temperature={self._ambient_temperature:g}, "
+            f"conduction_fraction={self._conduction_fraction:g})"
+        )
 
     def relative_light(self, voltage):
         """

@@ -172,6 +172,27 @@ class ResistiveLoad:
         shape = np.broadcast_shapes(np.shape(current), self.resistance.shape)
         return np.broadcast_to(self.resistance, shape).astype(complex)
 
+    def admittance(self, voltage, frequency):
+        """Complex admittance [S]: one over the resistance, whatever the voltage [V].
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the unit [V].
+        frequency : float
+            Source frequency [Hz]; a resistor does not depend on it.
+
+        Returns
+        -------
+        numpy.ndarray
+            ``1 / R`` as complex, shaped like ``voltage`` broadcast against
+            :attr:`resistance` (``inf`` for a dead short, ``0`` for an open unit).
+        """
+        shape = np.broadcast_shapes(np.shape(voltage), self.resistance.shape)
+        with np.errstate(divide="ignore"):
+            conductance = 1.0 / self.resistance
+        return np.broadcast_to(conductance, shape).astype(complex)
+
     def scaled(self, factor):
         """The resistive unit drawing ``factor`` times as much: ``R / factor``.
 
@@ -233,3 +254,201 @@ class ResistiveLoad:
         else:
             resistance = f"<{self.resistance.size} resistances>"
         return f"ResistiveLoad({resistance}, rated_voltage={self.rated_voltage!r})"
+
+
+def factor_repr(factor):
+    """A draw factor for ``repr``: the number, or how many there are."""
+    return repr(float(factor)) if factor.ndim == 0 else f"<{factor.size} factors>"
+
+
+def check_scalar(value, name, unit, *, low=None, high=None, positive=False, allow_zero=True):
+    """Return ``value`` as a float, refusing NaN, infinity and values out of range by name."""
+    try:
+        number = float(value)
+    except (TypeError, ValueError) as error:
+        raise ValueError(f"{name} must be one number of {unit} (got {value!r})") from error
+    if not np.isfinite(number):
+        raise ValueError(f"{name} must be a finite number of {unit} (got {value!r})")
+    if positive and (number < 0 or (number == 0 and not allow_zero)):
+        relation = "positive" if not allow_zero else "zero or positive"
+        raise ValueError(f"{name} must be {relation} (got {number:g} {unit})")
+    if low is not None and number < low:
+        raise ValueError(f"{name} must be at least {low:g} {unit} (got {number:g} {unit})")
+    if high is not None and number > high:
+        raise ValueError(f"{name} must be at most {high:g} {unit} (got {number:g} {unit})")
+    return number
+
+
+class ScalableLoad:
+    """Shared behaviour of the unit models: a draw factor as identical copies in parallel.
+
+    A model describes one unit (scalar parameters) through ``_impedance_of_one``,
+    ``_admittance_of_one``, ``_rated_power_of_one`` and ``_description``. Scaling the draw
+    by ``k`` stands for ``k`` identical units in parallel: each carries ``I / k`` at the
+    same terminal voltage, so
+
+    .. math:: Z_k(I) = Z_1(I / k) / k, \\quad Y_k(V) = k \\, Y_1(V), \\quad P_k = k P_1.
+
+    That holds for nonlinear units too (a cold heater, a saturating core), so the
+    judgement's "draws k times as much" means the same thing for every model. ``k = 0``
+    is an open unit and ``k = inf`` a dead short; an array ``k`` gives a load with array
+    parameters, one per element.
+    """
+
+    may_cycle = False
+    # Whether the unit holds its power as its volts fall (the solver treats it apart).
+    constant_power = False
+
+    def __init__(self, draw_factor=1.0):
+        factor = _as_float_array(draw_factor, "factor", "(a multiple of the draw)")
+        if (factor < 0).any():
+            raise ValueError(f"factor must not be negative (got {factor.min():g})")
+        self.draw_factor = factor
+        self.assumptions = ()
+
+    def _impedance_of_one(self, current, frequency):
+        raise NotImplementedError
+
+    def _admittance_of_one(self, voltage, frequency):
+        raise NotImplementedError
+
+    def _rated_power_of_one(self):
+        raise NotImplementedError
+
+    def _description(self):
+        raise NotImplementedError
+
+    def _copy_with_factor(self, factor):
+        clone = object.__new__(type(self))
+        clone.__dict__.update(self.__dict__)
+        clone.draw_factor = factor
+        return clone
+
+    @property
+    def rated_power(self):
+        """Declared draw [W]: the draw factor times one unit's draw at its rating."""
+        with np.errstate(invalid="ignore"):
+            power = self.draw_factor * self._rated_power_of_one()
+        return np.where(self.draw_factor == 0, 0.0, power)
+
+    def impedance(self, current, frequency):
+        """Complex impedance [ohm] at an RMS current [A] and a frequency [Hz].
+
+        Parameters
+        ----------
+        current : numeric
+            RMS current through the unit [A], ``>= 0``.
+        frequency : float
+            Source frequency [Hz].
+
+        Returns
+        -------
+        numpy.ndarray
+            Complex impedance [ohm], shaped like ``current`` broadcast against the draw
+            factor; ``inf`` where the factor is 0 (open), ``0`` where it is infinite.
+        """
+        current = np.asarray(current, dtype=float)
+        factor = self.draw_factor
+        shape = np.broadcast_shapes(current.shape, factor.shape)
+        current, factor = np.broadcast_to(current, shape), np.broadcast_to(factor, shape)
+        running = (factor > 0) & np.isfinite(factor)
+        impedance = np.where(factor == 0, complex(np.inf, 0.0), 0j).astype(complex)
+        if running.any():
+            one = self._impedance_of_one(current[running] / factor[running], frequency)
+            # Real and imaginary parts apart: a complex division would turn an infinite
+            # resistance (an open copy) into NaN.
+            parts = np.empty(one.shape, dtype=complex)
+            parts.real = one.real / factor[running]
+            parts.imag = one.imag / factor[running]
+            impedance[running] = parts
+        return impedance
+
+    def admittance(self, voltage, frequency):
+        """Complex admittance [S] at an RMS terminal voltage [V] and a frequency [Hz].
+
+        Parameters
+        ----------
+        voltage : numeric
+            RMS voltage across the unit [V], ``>= 0``.
+        frequency : float
+            Source frequency [Hz].
+
+        Returns
+        -------
+        numpy.ndarray
+            Complex admittance [S] (current phasor over voltage phasor), shaped like
+            ``voltage`` broadcast against the draw factor.
+        """
+        voltage = np.asarray(voltage, dtype=float)
+        factor = self.draw_factor
+        shape = np.broadcast_shapes(voltage.shape, factor.shape)
+        voltage, factor = np.broadcast_to(voltage, shape), np.broadcast_to(factor, shape)
+        admittance = np.where(np.isinf(factor), complex(np.inf, 0.0), 0j).astype(complex)
+        running = (factor > 0) & np.isfinite(factor)
+        if running.any():
+            admittance[running] = factor[running] * self._admittance_of_one(
+                voltage[running], frequency
+            )
+        return admittance
+
+    def scaled(self, factor):
+        """The same kind of unit drawing ``factor`` times as much (``factor`` copies in parallel).
+
+        Parameters
+        ----------
+        factor : numeric
+            Multiple of the present draw, ``>= 0``; ``0`` gives an open unit and ``inf`` a
+            dead short.
+
+        Returns
+        -------
+        ScalableLoad
+            Of the same class, with the draw factor multiplied.
+        """
+        factor = _as_float_array(factor, "factor", "(a multiple of the draw)")
+        if (factor < 0).any():
+            raise ValueError(f"factor must not be negative (got {factor.min():g})")
+        with np.errstate(invalid="ignore"):
+            combined = np.where(factor == 0, 0.0, self.draw_factor * factor)
+        return self._copy_with_factor(combined)
+
+    def with_assumptions(self, assumptions):
+        """The same load, saying how it was chosen.
+
+        Parameters
+        ----------
+        assumptions : sequence of str
+            Sentences listed first in ``describe()["assumptions"]``.
+
+        Returns
+        -------
+        ScalableLoad
+            A copy carrying the assumptions.
+        """
+        clone = self._copy_with_factor(self.draw_factor)
+        clone.assumptions = tuple(self.assumptions) + tuple(str(item) for item in assumptions)
+        return clone
+
+    def describe(self):
+        """The model, its parameters and its assumptions in plain words.
+
+        Returns
+        -------
+        dict
+            ``model``, a ``summary`` sentence, ``parameters`` (each a value and a unit),
+            ``assumptions`` (sentences) and ``draw_factor``.
+        """
+        description = self._description()
+        description["assumptions"] = list(self.assumptions) + list(
+            description.get("assumptions", [])
+        )
+        factor = self.draw_factor
+        if factor.ndim == 0:
+            if float(factor) != 1.0:
+                description["summary"] = (
+                    f"{float(factor):.3g} times {description['summary']} (copies in parallel)"
+                )
+        else:
+            description["summary"] = f"{factor.size} multiples of {description['summary']}"
+        description["draw_factor"] = _value_for_record(factor)
+        return description

@@ -4,11 +4,14 @@ Used by the judgement tests and by the demo shop. Nothing here uses ``shop.physi
 the operating point is found point by point with ``scipy.optimize.brentq`` (the filament
 temperature inside the circuit), from the lamp's own physical model
 (``resistance_at_temperature`` and ``power_loss``), so the judgement is always tried on
-readings it did not produce.
+readings it did not produce. A unit is a fixed complex impedance, or any load model, whose
+impedance is then asked at each trial current (for a constant-power unit, the root on the
+falling side of the source voltage needed, found after ``minimize_scalar`` locates the
+minimum).
 """
 
 import numpy as np
-from scipy.optimize import brentq
+from scipy.optimize import brentq, minimize_scalar
 
 from shop.physics.judgement import Reading
 from shop.physics.lamp import Lamp
@@ -105,6 +108,85 @@ def operating_point(lamp, impedance, source_voltage, source_resistance=0.0, lamp
     return current * abs(impedance), current, lamp_voltage
 
 
+def _load_impedance(load, current, frequency):
+    return complex(np.asarray(load.impedance(current, frequency)).item())
+
+
+def load_operating_point(
+    lamp, load, source_voltage, frequency=60.0, source_resistance=0.0, lamp_bypassed=False
+):
+    """Unit volts [V], current [A] and lamp volts [V] for a load model, point by point.
+
+    brentq over the lamp voltage of ``|V_lamp + I (R_s + Z(I))| = V_s``, ``Z`` asked of the
+    load at each trial current. A constant-power load (``load.constant_power``) is off below
+    its start voltage (no current, full source); running, its root is the one at the lower
+    current, and where there is none, or its volts fall below the stop voltage, the unit has
+    no operating point: ``(nan, nan, nan)``.
+    """
+    if source_voltage == 0:
+        return 0.0, 0.0, 0.0
+    if getattr(load, "constant_power", False):
+        return _constant_power_point(lamp, load, source_voltage, source_resistance, lamp_bypassed)
+    if np.isinf(abs(_load_impedance(load, 0.0, frequency))):
+        return source_voltage, 0.0, 0.0
+    if lamp_bypassed:
+
+        def bypassed(current):
+            impedance = _load_impedance(load, current, frequency)
+            return current * abs(source_resistance + impedance) - source_voltage
+
+        upper = 1.0
+        while bypassed(upper) < 0:
+            upper *= 2.0
+        current = brentq(bypassed, 0.0, upper, xtol=1e-15, rtol=1e-15)
+        return current * abs(_load_impedance(load, current, frequency)), current, 0.0
+
+    def circuit(lamp_voltage):
+        current = lamp_current(lamp, lamp_voltage)
+        impedance = _load_impedance(load, current, frequency)
+        return abs(lamp_voltage + current * (source_resistance + impedance)) - source_voltage
+
+    lamp_voltage = brentq(circuit, 0.0, source_voltage, xtol=1e-13, rtol=1e-15)
+    current = lamp_current(lamp, lamp_voltage)
+    return current * abs(_load_impedance(load, current, frequency)), current, lamp_voltage
+
+
+def _constant_power_point(lamp, load, source_voltage, source_resistance, lamp_bypassed):
+    power = float(load.rated_power)
+    missing = (np.nan, np.nan, np.nan)
+    if source_voltage < load.start_voltage:
+        return source_voltage, 0.0, 0.0
+    if lamp_bypassed:
+        discriminant = source_voltage**2 - 4.0 * power * source_resistance
+        if discriminant < 0:
+            return missing
+        current = 2.0 * power / (source_voltage + np.sqrt(discriminant))
+        lamp_voltage = 0.0
+    else:
+        smallest = 1e-9 * lamp.rated_voltage
+
+        def needed(lamp_voltage):
+            current = lamp_current(lamp, lamp_voltage)
+            return lamp_voltage + source_resistance * current + power / current
+
+        lowest = minimize_scalar(
+            needed,
+            bounds=(smallest, 0.999 * lamp.max_voltage),
+            method="bounded",
+            options={"xatol": 1e-10},
+        )
+        if lowest.fun > source_voltage:
+            return missing
+        lamp_voltage = brentq(
+            lambda volts: needed(volts) - source_voltage, smallest, lowest.x, xtol=1e-14
+        )
+        current = lamp_current(lamp, lamp_voltage)
+    load_voltage = power / current
+    if load_voltage < load.stop_voltage:
+        return missing
+    return load_voltage, current, lamp_voltage
+
+
 def perturbed_lamp(lamp, power_factor, temperature_shift):
     """The lamp that "really" sat in the rig: rated power and rated temperature moved."""
     return Lamp(
@@ -137,23 +219,37 @@ def readings(
     rng,
     *,
     source_resistance=0.0,
+    frequency=60.0,
     with_current=False,
     bypassed_steps=(),
     behaviour="steady",
     glow_seen=True,
 ):
-    """Readings of a unit of ``impedance`` [ohm] through ``lamp`` at each source step [V].
+    """Readings of a unit through ``lamp`` at each source step [V].
 
+    ``impedance`` is the unit: a fixed complex impedance [ohm] or a load model
+    (``shop.physics.loads``), solved by :func:`load_operating_point` at ``frequency`` [Hz].
     Source and unit volts (and current, if ``with_current``) carry seeded meter noise; the
     glow seen is the true lamp's glow class at its true voltage; readings at the source steps
-    listed in ``bypassed_steps`` are taken with the lamp switched out.
+    listed in ``bypassed_steps`` are taken with the lamp switched out. Where a constant-power
+    unit has no operating point the glow is recorded as cycling, seen bright at its flashes,
+    and the unit's volts as its stop voltage, about where a meter's needle hovers.
     """
     taken = []
     for source in steps:
         bypassed = source in bypassed_steps
-        load_voltage, current, lamp_voltage = operating_point(
-            lamp, impedance, source, source_resistance, lamp_bypassed=bypassed
-        )
+        if hasattr(impedance, "impedance"):
+            load_voltage, current, lamp_voltage = load_operating_point(
+                lamp, impedance, source, frequency, source_resistance, lamp_bypassed=bypassed
+            )
+        else:
+            load_voltage, current, lamp_voltage = operating_point(
+                lamp, impedance, source, source_resistance, lamp_bypassed=bypassed
+            )
+        seen = behaviour
+        if np.isnan(load_voltage):
+            seen, load_voltage, current = "cycling", impedance.stop_voltage, 0.0
+            lamp_voltage = lamp.rated_voltage
         glow = str(lamp.glow(lamp_voltage)) if glow_seen and not bypassed else None
         taken.append(
             Reading(
@@ -161,7 +257,7 @@ def readings(
                 load_voltage=_meter_reading(load_voltage, METER, rng),
                 current=_meter_reading(current, AMMETER, rng) if with_current else None,
                 glow_seen=glow,
-                behaviour_seen=None if bypassed else behaviour,
+                behaviour_seen=None if bypassed else seen,
                 lamp_bypassed=bypassed,
                 seconds_held=10.0,
                 seconds_since_switch_on=5.0,

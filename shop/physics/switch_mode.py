@@ -1,0 +1,133 @@
+"""Switch-mode inputs: a unit that holds its power constant once its supply has started."""
+
+import numpy as np
+
+from shop.physics.loads import DEFAULT_RATED_VOLTAGE, ScalableLoad, check_scalar, factor_repr
+
+# A switch-mode supply starts once its input reaches about 80 % of the lowest voltage on its
+# nameplate and stops again below about 70 % (under-voltage lockout with hysteresis; common
+# practice, no source). For a universal input rated 100-240 V that is about 80 V and 70 V.
+START_FRACTION = 0.8
+STOP_FRACTION = 0.7
+
+RUNNING = "running"
+OFF = "off"
+NO_OPERATING_POINT = "no_operating_point"
+STATES = (RUNNING, OFF, NO_OPERATING_POINT)
+CANNOT_RUN_SENTENCE = (
+    "cannot draw its rated power through this lamp: expect it to cycle or not start"
+)
+
+
+class ConstantPowerLoad(ScalableLoad):
+    """A switch-mode input above its start voltage: it draws a fixed power whatever the volts.
+
+    Use it for switch-mode power supplies, chargers, laptop adapters and modern gear with an
+    active power-factor-corrected input, declared at the power it should draw as configured
+    on the bench (idle, a few watts, unless a load is fitted). Below its start voltage it
+    draws nothing; once started it holds its power, so it draws *more* current as its volts
+    fall. Through a lamp that can leave it no operating point at all: the lamp's drop grows
+    faster than the unit can make up, the unit stops, the lamp cools, it restarts, and the
+    glow cycles; or it never starts. The solver reports that as a distinct state
+    (``no_operating_point``), never as an error.
+
+    Parameters
+    ----------
+    power : float
+        Power the unit draws once running [W].
+    rated_voltage : float, default 120.0
+        The lowest input voltage on the nameplate [V] (100 V for a "100-240 V" input).
+    start_voltage : float, optional
+        Input voltage at which it starts [V]; default ``START_FRACTION`` (0.8) of
+        ``rated_voltage``.
+    stop_voltage : float, optional
+        Input voltage below which a running unit stops [V]; default ``STOP_FRACTION`` (0.7)
+        of ``rated_voltage``; at most ``start_voltage``.
+
+    Notes
+    -----
+    Running, the unit is a resistance that adjusts itself to hold its power:
+
+    .. math:: Z(I) = P / I^2, \\quad V = P / I.
+
+    In series with the lamp and the rig's windings the source voltage needed,
+    :math:`V_s(I) = V_{lamp}(I) + R_s I + P / I`, falls with the current and then rises.
+    The operating point is the root on the falling side (the lower current and higher unit
+    volts: the state a running supply settles in); a source voltage below the minimum of
+    :math:`V_s(I)`, or a root whose unit volts are below ``stop_voltage``, leaves no
+    operating point. The input is taken as drawing its power as a resistance would (an
+    active power-factor-corrected input, or the fundamental of a capacitor input); a
+    capacitor input's peaky current is the rectifier model's to describe.
+    """
+
+    may_cycle = True
+    constant_power = True
+
+    def __init__(
+        self,
+        power,
+        rated_voltage=DEFAULT_RATED_VOLTAGE,
+        start_voltage=None,
+        stop_voltage=None,
+        draw_factor=1.0,
+    ):
+        super().__init__(draw_factor)
+        self.power = check_scalar(power, "power", "W", positive=True, allow_zero=False)
+        self.rated_voltage = check_scalar(
+            rated_voltage, "rated_voltage", "V", positive=True, allow_zero=False
+        )
+        self.start_voltage = check_scalar(
+            START_FRACTION * self.rated_voltage if start_voltage is None else start_voltage,
+            "start_voltage",
+            "V",
+            positive=True,
+        )
+        self.stop_voltage = check_scalar(
+            STOP_FRACTION * self.rated_voltage if stop_voltage is None else stop_voltage,
+            "stop_voltage",
+            "V",
+            positive=True,
+            high=self.start_voltage,
+        )
+
+    def _impedance_of_one(self, current, frequency):
+        current = np.asarray(current, dtype=float)
+        with np.errstate(divide="ignore"):
+            return (self.power / current**2).astype(complex)
+
+    def _admittance_of_one(self, voltage, frequency):
+        voltage = np.asarray(voltage, dtype=float)
+        with np.errstate(divide="ignore"):
+            return (self.power / voltage**2).astype(complex)
+
+    def _rated_power_of_one(self):
+        return self.power
+
+    def _description(self):
+        return {
+            "model": "constant_power",
+            "summary": (
+                f"a switch-mode input drawing {self.power:.3g} W once started "
+                f"(starts at {self.start_voltage:.3g} V, stops below {self.stop_voltage:.3g} V)"
+            ),
+            "parameters": {
+                "power": {"value": self.power, "unit": "W"},
+                "rated_voltage": {"value": self.rated_voltage, "unit": "V"},
+                "start_voltage": {"value": self.start_voltage, "unit": "V"},
+                "stop_voltage": {"value": self.stop_voltage, "unit": "V"},
+            },
+            "assumptions": [
+                f"It starts at {self.start_voltage:.3g} V and stops below "
+                f"{self.stop_voltage:.3g} V (about 80 % and 70 % of the lowest nameplate "
+                "voltage: common practice, no source).",
+                "Once running it holds its power whatever its volts, drawing it as a "
+                "resistance would.",
+            ],
+        }
+
+    def __repr__(self):
+        return (
+            f"ConstantPowerLoad(power={self.power:g}, rated_voltage={self.rated_voltage:g}, "
+            f"start_voltage={self.start_voltage:g}, stop_voltage={self.stop_voltage:g}, "
+            f"draw_factor={factor_repr(self.draw_factor)})"
+        )
