@@ -74,10 +74,10 @@ class PhysicsClock:
         self.profile.disable()
         stats = pstats.Stats(self.profile)
         physics = sum(
-            entry[3] for key, entry in stats.stats.items()
+            entry[3]
+            for key, entry in stats.stats.items()
             if PHYSICS_MODULE_PREFIX.replace(".", "/") in key[0]
-            and not any(PHYSICS_MODULE_PREFIX.replace(".", "/") in caller[0]
-                        for caller in entry[4])
+            and not any(PHYSICS_MODULE_PREFIX.replace(".", "/") in caller[0] for caller in entry[4])
         )
         self.profile = type(self.profile)()
         return min(physics / total, 1.0) if total else 0.0
@@ -101,23 +101,47 @@ def main() -> int:
         lead.groups.add(Group.objects.get_or_create(name="lead")[0])
         client = APIClient()
         client.force_authenticate(lead)
-        customer = intake.customer_create(name="Benchmark customer")
-        unit = intake.unit_create(owner=customer, category="radio", maker="Bench",
-                                  rated_voltage=120, rated_power=60)
-        rig = services.rig_create(name="Bench rig", mains_voltage=120, mains_frequency=60,
-                                  source_kind="fixed_mains", source_current_rating=5,
-                                  isolation_transformer=True, internal_resistance=2)
-        lamp = services.lamp_create(rig=rig, label="60 W", technology="tungsten",
-                                    rated_voltage=120, rated_power=60)
-        job = intake.job_create(unit=unit, complaint="bench")
-        readings = [{"source_voltage": 5.0 + 4.6 * i, "load_voltage": (5.0 + 4.6 * i) * 0.85,
-                     "glow_seen": "dark"} for i in range(READINGS)]
+        customer = intake.customer_create(actor=lead, name="Benchmark customer")
+        unit = intake.unit_create(
+            actor=lead,
+            owner=customer,
+            category="radio",
+            maker="Bench",
+            rated_voltage=120,
+            rated_power=60,
+        )
+        rig = services.rig_create(
+            actor=lead,
+            name="Bench rig",
+            mains_voltage=120,
+            mains_frequency=60,
+            source_kind="fixed_mains",
+            source_current_rating=5,
+            isolation_transformer=True,
+            internal_resistance=2,
+        )
+        lamp = services.lamp_create(
+            actor=lead,
+            rig=rig,
+            label="60 W",
+            technology="tungsten",
+            rated_voltage=120,
+            rated_power=60,
+        )
+        job = intake.job_create(actor=lead, unit=unit, complaint="bench")
+        readings = [
+            {
+                "source_voltage": 5.0 + 4.6 * i,
+                "load_voltage": (5.0 + 4.6 * i) * 0.85,
+                "glow_seen": "dark",
+            }
+            for i in range(READINGS)
+        ]
         body = {"job": job.pk, "rig": rig.pk, "lamp": lamp.pk}
 
         def open_with_readings() -> int:
             test_id = client.post("/api/powerups/", body, format="json").json()["id"]
-            client.post(f"/api/powerups/{test_id}/readings/", {"readings": readings},
-                        format="json")
+            client.post(f"/api/powerups/{test_id}/readings/", {"readings": readings}, format="json")
             return test_id
 
         def closer():
@@ -129,9 +153,16 @@ def main() -> int:
 
             return close
 
-        prediction = {"lamp_id": lamp.pk, "rig": {"mains_voltage": 120, "mains_frequency": 60},
-                      "declared_load": {"kind": "resistive", "parameters": {"resistance": 240},
-                                        "basis": "estimate"}, "points": SWEEP_POINTS}
+        prediction = {
+            "lamp_id": lamp.pk,
+            "rig": {"mains_voltage": 120, "mains_frequency": 60},
+            "declared_load": {
+                "kind": "resistive",
+                "parameters": {"resistance": 240},
+                "basis": "estimate",
+            },
+            "points": SWEEP_POINTS,
+        }
 
         def predict_once():
             response = client.post("/api/predict/", prediction, format="json")
@@ -153,15 +184,20 @@ def main() -> int:
 
     bare_median, bare_p95 = percentiles(bare)
     print("Service benchmark (in-process Django test client, in-memory SQLite)")
-    print(f"  bare authenticated DRF GET            median {bare_median:7.2f} ms  "
-          f"p95 {bare_p95:7.2f} ms  (baseline)")
+    print(
+        f"  bare authenticated DRF GET            median {bare_median:7.2f} ms  "
+        f"p95 {bare_p95:7.2f} ms  (baseline)"
+    )
     for name, samples, share in (
-            (f"close a test of {READINGS} readings", close, close_share),
-            (f"POST /api/predict/, {SWEEP_POINTS}-point sweep", predict, predict_share)):
+        (f"close a test of {READINGS} readings", close, close_share),
+        (f"POST /api/predict/, {SWEEP_POINTS}-point sweep", predict, predict_share),
+    ):
         median, p95 = percentiles(samples)
-        print(f"  {name:<37} median {median:7.2f} ms  p95 {p95:7.2f} ms  "
-              f"ratio to bare {median / bare_median:6.1f}x  physics share {share:5.1%} (cProfile)  "
-              f"(aim: median < 30 ms, physics < 1/3)")
+        print(
+            f"  {name:<37} median {median:7.2f} ms  p95 {p95:7.2f} ms  "
+            f"ratio to bare {median / bare_median:6.1f}x  physics share {share:5.1%} (cProfile)  "
+            f"(aim: median < 30 ms, physics < 1/3)"
+        )
     return 0
 
 

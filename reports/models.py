@@ -8,8 +8,9 @@ from django.db import models
 from django.utils import timezone
 
 from shop.bench.models import PowerUpTest
+from shop.core.immutability import AppendOnly
 from shop.core.numbering import YearCounter
-from shop.intake.models import AppendOnly, Job
+from shop.intake.models import Job
 
 
 class CertificateNumberCounter(YearCounter):

@@ -10,6 +10,7 @@ from django.utils import timezone
 
 from shop.bench.models import PowerUpTest, TestStatus
 from shop.bench.selectors import calibration_state
+from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
 from shop.core.roles import LEAD, has_role
@@ -145,6 +146,19 @@ def _issue(
     certificate.full_clean()
     certificate.save()
     certificate.tests.set(chosen)
+    audit_record(
+        actor=issued_by,
+        action="certificate.issue",
+        instance=certificate,
+        changes={
+            "number": number,
+            "job": job,
+            "tests": chosen,
+            "sha256": certificate.sha256,
+            "supersedes": supersedes,
+            "calibration_override": override,
+        },
+    )
     return certificate
 
 
@@ -197,6 +211,12 @@ def certificate_supersede(
     )
     event.full_clean()
     event.save()
+    audit_record(
+        actor=by,
+        action="certificate.supersede",
+        instance=old,
+        changes={"reason": reason, "replacement": new},
+    )
     return new
 
 
@@ -210,4 +230,5 @@ def certificate_revoke(*, certificate: Certificate, by, reason: str) -> Certific
     )
     event.full_clean()
     event.save()
+    audit_record(actor=by, action="certificate.revoke", instance=locked, changes={"reason": reason})
     return event

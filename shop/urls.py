@@ -17,6 +17,7 @@ urlpatterns = [
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
     path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
     path("api/", include("shop.intake.urls")),
+    path("api/", include("shop.core.urls")),
     path("api/", include("shop.bench.urls")),
     path("api/", include(api_urlpatterns)),
     *public_urlpatterns,

@@ -59,15 +59,16 @@ def client_for(staff):
 
 
 @pytest.fixture
-def customer(db):
+def customer(staff):
     return services.customer_create(
-        name="Orla Quennell", phone="555-0142", email="orla@example.org"
+        actor=staff["front_desk"], name="Orla Quennell", phone="555-0142", email="orla@example.org"
     )
 
 
 @pytest.fixture
-def unit(customer):
+def unit(customer, staff):
     return services.unit_create(
+        actor=staff["front_desk"],
         owner=customer,
         category="radio",
         maker="Brightwave",
@@ -80,5 +81,7 @@ def unit(customer):
 
 
 @pytest.fixture
-def job(unit):
-    return services.job_create(unit=unit, complaint="Hums loudly, no sound after warm-up.")
+def job(unit, staff):
+    return services.job_create(
+        actor=staff["front_desk"], unit=unit, complaint="Hums loudly, no sound after warm-up."
+    )

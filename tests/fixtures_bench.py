@@ -6,6 +6,7 @@ from datetime import timedelta
 from decimal import Decimal
 
 import pytest
+from django.contrib.auth.models import User
 from django.utils import timezone
 
 from shop.bench import services
@@ -16,6 +17,7 @@ from shop.intake.models import JobState
 @pytest.fixture
 def meter(staff):
     instrument = services.instrument_create(
+        actor=staff["lead"],
         kind="multimeter",
         response="true_rms",
         maker="Corvid",
@@ -39,6 +41,7 @@ def meter(staff):
 @pytest.fixture
 def overdue_meter(staff):
     instrument = services.instrument_create(
+        actor=staff["lead"],
         kind="voltmeter",
         response="average_responding",
         maker="Pellow",
@@ -59,8 +62,9 @@ def overdue_meter(staff):
 
 
 @pytest.fixture
-def rig(db):
+def rig(staff):
     return services.rig_create(
+        actor=staff["lead"],
         name="Bench A 120 V",
         mains_voltage=Decimal("120"),
         mains_frequency=60,
@@ -74,8 +78,9 @@ def rig(db):
 
 
 @pytest.fixture
-def bare_rig(db):
+def bare_rig(staff):
     return services.rig_create(
+        actor=staff["lead"],
         name="Bench B no isolation",
         mains_voltage=Decimal("120"),
         mains_frequency=60,
@@ -87,7 +92,10 @@ def bare_rig(db):
 
 
 def make_lamp(rig, watts: int, **extra):
+    """A clear 120 V lamp on `rig`, added by the rig's first lead."""
+    lead = User.objects.filter(groups__name="lead").first()
     return services.lamp_create(
+        actor=lead,
         rig=rig,
         label=f"{watts} W clear",
         technology="tungsten",

@@ -27,7 +27,7 @@ def _instruments(entries: list[dict], lead) -> dict[str, Instrument]:
     made = {}
     for entry in entries:
         fields = {k: v for k, v in entry.items() if k not in {"key", "calibration"}}
-        instrument = services.instrument_create(**fields)
+        instrument = services.instrument_create(actor=lead, **fields)
         calibration = entry["calibration"]
         calibrated_on = today - timedelta(days=calibration["days_ago"])
         services.calibration_record_add(
@@ -44,7 +44,7 @@ def _instruments(entries: list[dict], lead) -> dict[str, Instrument]:
     return made
 
 
-def _rigs(entries: list[dict], meters: dict[str, Instrument]) -> dict[str, tuple[Rig, dict]]:
+def _rigs(entries: list[dict], meters: dict[str, Instrument], lead) -> dict[str, tuple[Rig, dict]]:
     made = {}
     for entry in entries:
         fields = {
@@ -52,9 +52,12 @@ def _rigs(entries: list[dict], meters: dict[str, Instrument]) -> dict[str, tuple
             for k, v in entry.items()
             if k not in {"key", "lamps", "lamp_voltage", "bank", "builtin_meter"}
         }
-        rig = services.rig_create(builtin_meter=meters.get(entry["builtin_meter"]), **fields)
+        rig = services.rig_create(
+            actor=lead, builtin_meter=meters.get(entry["builtin_meter"]), **fields
+        )
         lamps = {
             watts: services.lamp_create(
+                actor=lead,
                 rig=rig,
                 label=f"{watts} W clear",
                 technology="tungsten",
@@ -64,6 +67,7 @@ def _rigs(entries: list[dict], meters: dict[str, Instrument]) -> dict[str, tuple
             for watts in entry["lamps"]
         }
         services.bank_create(
+            actor=lead,
             rig=rig,
             label=" + ".join(f"{w} W" for w in entry["bank"]),
             lamps=[lamps[w] for w in entry["bank"]],
@@ -98,7 +102,7 @@ def load_demo_bench(data: dict, staff: dict, units_by_key: dict) -> list[str]:
     """Create the bench records and close every demo test; return one line per test."""
     lead = next(user for user in staff.values() if user.groups.filter(name="lead").exists())
     meters = _instruments(data["instruments"], lead)
-    rigs = _rigs(data["rigs"], meters)
+    rigs = _rigs(data["rigs"], meters, lead)
     lines = []
     for entry in data["tests"]:
         rig, lamps = rigs[entry["rig"]]
@@ -115,7 +119,9 @@ def load_demo_bench(data: dict, staff: dict, units_by_key: dict) -> list[str]:
             notes=f"Demo scenario: {entry['scenario']}.",
         )
         services.readings_add(
-            test=test, readings=_generated_readings(lamp, rig, test.declared_load, entry)
+            test=test,
+            readings=_generated_readings(lamp, rig, test.declared_load, entry),
+            actor=staff[entry["by"]],
         )
         verdict = services.powerup_close(test=test, actor=staff[entry["by"]])
         lines.append(f"  job {job.number}: {entry['scenario']} -> {verdict.outcome}")

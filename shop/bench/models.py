@@ -5,12 +5,14 @@ from __future__ import annotations
 from decimal import Decimal
 
 from django.conf import settings
+from django.core.exceptions import ValidationError
 from django.core.validators import MaxValueValidator, MinValueValidator
 from django.db import models
 from django.utils import timezone
 
+from shop.core.immutability import AppendOnly
 from shop.core.versioning import Versioned
-from shop.intake.models import AppendOnly, Job
+from shop.intake.models import Job
 
 MIN_MAINS_VOLTAGE = Decimal("90")
 MAX_MAINS_VOLTAGE = Decimal("260")
@@ -259,8 +261,26 @@ class TestStatus(models.TextChoices):
     CLOSED = "closed", "Closed"
 
 
+class PowerUpTestQuerySet(models.QuerySet):
+    """Bulk updates and deletes never reach a closed test."""
+
+    def update(self, **kwargs):
+        _refuse_if_closed(self.filter(status=TestStatus.CLOSED).exists())
+        return super().update(**kwargs)
+
+    def delete(self):
+        _refuse_if_closed(self.filter(status=TestStatus.CLOSED).exists())
+        return super().delete()
+
+
+def _refuse_if_closed(closed: bool) -> None:
+    if closed:
+        raise ValidationError("A closed power-up test and its readings never change; "
+                              "a correction is a new test.")
+
+
 class PowerUpTest(Versioned):
-    """One power-up run of a job's unit through a series lamp."""
+    """One power-up run of a job's unit through a series lamp; closed means never changed."""
 
     job = models.ForeignKey(Job, on_delete=models.PROTECT, related_name="powerups")
     rig = models.ForeignKey(Rig, on_delete=models.PROTECT, related_name="powerups")
@@ -314,6 +334,8 @@ class PowerUpTest(Versioned):
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
 
+    objects = PowerUpTestQuerySet.as_manager()
+
     class Meta:
         ordering = ["-started_at", "-id"]
         constraints = [
@@ -329,6 +351,17 @@ class PowerUpTest(Versioned):
     def __str__(self) -> str:
         return f"Power-up {self.pk} of {self.job}"
 
+    def save(self, *args, **kwargs):
+        if not self._state.adding:
+            _refuse_if_closed(
+                PowerUpTest.objects.filter(pk=self.pk, status=TestStatus.CLOSED).exists()
+            )
+        super().save(*args, **kwargs)
+
+    def delete(self, *args, **kwargs):
+        _refuse_if_closed(self.status == TestStatus.CLOSED)
+        return super().delete(*args, **kwargs)
+
 
 class GlowSeen(models.TextChoices):
     DARK = "dark", "Dark"
@@ -342,6 +375,28 @@ class BehaviourSeen(models.TextChoices):
     STEADY = "steady", "Steady"
     FLASH_THEN_DIMS = "flash_then_dims", "Flash at switch-on, then dims"
     CYCLING = "cycling", "Glow rises and falls repeatedly"
+
+
+class ReadingQuerySet(models.QuerySet):
+    """Bulk updates and deletes never reach the readings of a closed test."""
+
+    def _touches_closed(self) -> bool:
+        return self.filter(test__status=TestStatus.CLOSED).exists()
+
+    def update(self, **kwargs):
+        _refuse_if_closed(self._touches_closed())
+        return super().update(**kwargs)
+
+    def delete(self):
+        _refuse_if_closed(self._touches_closed())
+        return super().delete()
+
+    def bulk_create(self, objs, *args, **kwargs):
+        tests = {obj.test_id for obj in objs}
+        _refuse_if_closed(
+            PowerUpTest.objects.filter(pk__in=tests, status=TestStatus.CLOSED).exists()
+        )
+        return super().bulk_create(objs, *args, **kwargs)
 
 
 class Reading(models.Model):
@@ -362,6 +417,8 @@ class Reading(models.Model):
     seconds_since_switch_on = models.FloatField(null=True, blank=True)
     taken_at = models.DateTimeField(default=timezone.now)
 
+    objects = ReadingQuerySet.as_manager()
+
     class Meta:
         ordering = ["test", "sequence"]
         constraints = [
@@ -370,6 +427,16 @@ class Reading(models.Model):
 
     def __str__(self) -> str:
         return f"{self.test_id}#{self.sequence}: {self.source_voltage} V -> {self.load_voltage} V"
+
+    def save(self, *args, **kwargs):
+        _refuse_if_closed(
+            PowerUpTest.objects.filter(pk=self.test_id, status=TestStatus.CLOSED).exists()
+        )
+        super().save(*args, **kwargs)
+
+    def delete(self, *args, **kwargs):
+        _refuse_if_closed(self.test.status == TestStatus.CLOSED)
+        return super().delete(*args, **kwargs)
 
 
 class Verdict(AppendOnly):

@@ -7,10 +7,11 @@ from datetime import date
 from django.db import transaction
 from django.utils import timezone
 
+from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.roles import LEAD, has_role
-from shop.core.services import create_validated, only_fields
-from shop.core.versioning import check_version, versioned_update
+from shop.core.services import create_validated, only_fields, update_versioned
+from shop.core.versioning import check_version
 from shop.intake.models import Job, JobState
 from shop.physics.lamp import Lamp as PhysicsLamp
 from shop.physics.meters import fit_meter_correction
@@ -79,22 +80,39 @@ LOAD_OVER_SOURCE_FRACTION = 0.05
 LOAD_OVER_SOURCE_VOLTS = 2.0
 MAX_READING_CURRENT = 50.0  # [A]
 MAX_READINGS_PER_TEST = 10_000
+READING_AUDIT_FIELDS = (
+    "source_voltage",
+    "load_voltage",
+    "current",
+    "glow_seen",
+    "behaviour_seen",
+    "lamp_bypassed",
+)
 
 
 # Instruments -------------------------------------------------------------------------------
 
 
 @transaction.atomic
-def instrument_create(**fields) -> Instrument:
-    return create_validated(Instrument, only_fields(fields, INSTRUMENT_FIELDS))
+def instrument_create(*, actor, **fields) -> Instrument:
+    return create_validated(
+        Instrument,
+        only_fields(fields, INSTRUMENT_FIELDS),
+        actor=actor,
+        action="instrument.create",
+    )
 
 
 @transaction.atomic
 def instrument_update(
-    *, instrument: Instrument, expected_version: int | None, **changes
+    *, instrument: Instrument, expected_version: int | None, actor, **changes
 ) -> Instrument:
-    return versioned_update(
-        instrument, expected=expected_version, changes=only_fields(changes, INSTRUMENT_FIELDS)
+    return update_versioned(
+        instrument,
+        expected=expected_version,
+        changes=only_fields(changes, INSTRUMENT_FIELDS),
+        actor=actor,
+        action="instrument.update",
     )
 
 
@@ -136,6 +154,8 @@ def calibration_record_add(
             "recorded_by": recorded_by,
             **fields,
         },
+        actor=recorded_by,
+        action="calibration.add",
     )
 
 
@@ -143,14 +163,18 @@ def calibration_record_add(
 
 
 @transaction.atomic
-def rig_create(**fields) -> Rig:
-    return create_validated(Rig, only_fields(fields, RIG_FIELDS))
+def rig_create(*, actor, **fields) -> Rig:
+    return create_validated(Rig, only_fields(fields, RIG_FIELDS), actor=actor, action="rig.create")
 
 
 @transaction.atomic
-def rig_update(*, rig: Rig, expected_version: int | None, **changes) -> Rig:
-    return versioned_update(
-        rig, expected=expected_version, changes=only_fields(changes, RIG_FIELDS)
+def rig_update(*, rig: Rig, expected_version: int | None, actor, **changes) -> Rig:
+    return update_versioned(
+        rig,
+        expected=expected_version,
+        changes=only_fields(changes, RIG_FIELDS),
+        actor=actor,
+        action="rig.update",
     )
 
 
@@ -194,17 +218,18 @@ def _calibrate(lamp: Lamp) -> None:
 
 
 @transaction.atomic
-def lamp_create(**fields) -> Lamp:
+def lamp_create(*, actor, **fields) -> Lamp:
     _check_technology(fields.get("technology", ""))
     lamp = Lamp(**only_fields(fields, ("rig", *LAMP_FIELDS)))
     lamp.full_clean()
     _calibrate(lamp)
     lamp.save()
+    audit_record(actor=actor, action="lamp.create", instance=lamp, changes=fields)
     return lamp
 
 
 @transaction.atomic
-def lamp_update(*, lamp: Lamp, expected_version: int | None, **changes) -> Lamp:
+def lamp_update(*, lamp: Lamp, expected_version: int | None, actor, **changes) -> Lamp:
     only_fields(changes, LAMP_FIELDS)
     if "technology" in changes:
         _check_technology(changes["technology"])
@@ -214,20 +239,32 @@ def lamp_update(*, lamp: Lamp, expected_version: int | None, **changes) -> Lamp:
         setattr(locked, name, value)
     _calibrate(locked)
     fitted = ("fitted_rated_temperature", "fitted_conduction_fraction", "fit_rms_residual")
-    return versioned_update(
-        locked, expected=None, changes={**changes, **{f: getattr(locked, f) for f in fitted}}
+    return update_versioned(
+        locked,
+        expected=None,
+        changes={**changes, **{f: getattr(locked, f) for f in fitted}},
+        actor=actor,
+        action="lamp.update",
     )
 
 
 @transaction.atomic
-def bank_create(*, rig: Rig, label: str, lamps: list[Lamp]) -> LampBank:
+def bank_create(*, actor, rig: Rig, label: str, lamps: list[Lamp]) -> LampBank:
     if len(lamps) < 2:
         raise ApplicationError("A bank needs at least two lamps.", field="lamps")
     strangers = [lamp.label for lamp in lamps if lamp.rig_id != rig.pk]
     if strangers:
         raise ApplicationError(f"Not on rig {rig.name}: {', '.join(strangers)}.", field="lamps")
-    bank = create_validated(LampBank, {"rig": rig, "label": label})
+    bank = LampBank(rig=rig, label=label)
+    bank.full_clean()
+    bank.save()
     bank.lamps.set(lamps)
+    audit_record(
+        actor=actor,
+        action="lamp_bank.create",
+        instance=bank,
+        changes={"rig": rig, "label": label, "lamps": lamps},
+    )
     return bank
 
 
@@ -326,6 +363,20 @@ def powerup_open(
     )
     test.full_clean()
     test.save()
+    audit_record(
+        actor=technician,
+        action="powerup.open",
+        instance=test,
+        changes={
+            "job": job,
+            "rig": rig,
+            "lamp": lamp,
+            "bank": bank,
+            "declared_load": document,
+            "live_chassis_override": live_chassis_override,
+            **fields,
+        },
+    )
     return test
 
 
@@ -338,13 +389,17 @@ def _lock_open(test: PowerUpTest, expected_version: int | None = None) -> PowerU
 
 
 @transaction.atomic
-def powerup_update(*, test: PowerUpTest, expected_version: int | None, **changes) -> PowerUpTest:
+def powerup_update(
+    *, test: PowerUpTest, expected_version: int | None, actor, **changes
+) -> PowerUpTest:
     locked = _lock_open(test, expected_version)
     only_fields(changes, TEST_FIELDS)
     if "declared_load" in changes:
         changes["declared_load"] = validated_document(changes["declared_load"])
         changes["warnings"] = _rating_warnings(locked.rig, changes["declared_load"])
-    return versioned_update(locked, expected=None, changes=changes)
+    return update_versioned(
+        locked, expected=None, changes=changes, actor=actor, action="powerup.update"
+    )
 
 
 def _reading_from(test: PowerUpTest, sequence: int, data: dict, field_prefix: str) -> Reading:
@@ -384,7 +439,7 @@ def _reading_from(test: PowerUpTest, sequence: int, data: dict, field_prefix: st
 
 @transaction.atomic
 def readings_add(
-    *, test: PowerUpTest, readings: list[dict], field_prefix: str = "readings.{index}."
+    *, test: PowerUpTest, readings: list[dict], actor, field_prefix: str = "readings.{index}."
 ) -> list[Reading]:
     """Add readings to an open test, all or none; sequences follow the last one taken."""
     locked = _lock_open(test)
@@ -398,6 +453,15 @@ def readings_add(
         for index, data in enumerate(readings)
     ]
     Reading.objects.bulk_create(built)
+    audit_record(
+        actor=actor,
+        action="readings.add",
+        instance=locked,
+        changes={
+            "sequences": [r.sequence for r in built],
+            "readings": [{f: getattr(r, f) for f in READING_AUDIT_FIELDS} for r in built],
+        },
+    )
     return built
 
 
@@ -410,9 +474,17 @@ def powerup_close(*, test: PowerUpTest, actor, expected_version: int | None = No
         raise Conflict("A test with no readings cannot be closed.", code="no_readings")
     inputs = judging.verdict_inputs(locked, readings)
     verdict = judging.store_verdict(locked, inputs)
-    versioned_update(
+    update_versioned(
         locked,
         expected=None,
         changes={"status": TestStatus.CLOSED, "closed_at": timezone.now(), "closed_by": actor},
+        actor=actor,
+        action="powerup.close",
+    )
+    audit_record(
+        actor=actor,
+        action="verdict.store",
+        instance=verdict,
+        changes={"outcome": verdict.outcome, "reasons": verdict.reasons},
     )
     return verdict

@@ -67,10 +67,12 @@ class RigViewSet(VersionedModelViewSet):
     role_rules = {"read": ANY_ROLE, "create": LEAD_ONLY, "update": LEAD_ONLY}
 
     def create_service(self, data, request):
-        return services.rig_create(**data)
+        return services.rig_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.rig_update(rig=instance, expected_version=version, **data)
+        return services.rig_update(
+            rig=instance, expected_version=version, actor=request.user, **data
+        )
 
 
 @crud_schema(LampSerializer)
@@ -85,10 +87,12 @@ class LampViewSet(VersionedModelViewSet):
     role_rules = {"read": ANY_ROLE, "create": LEAD_ONLY, "update": LEAD_ONLY}
 
     def create_service(self, data, request):
-        return services.lamp_create(**data)
+        return services.lamp_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.lamp_update(lamp=instance, expected_version=version, **data)
+        return services.lamp_update(
+            lamp=instance, expected_version=version, actor=request.user, **data
+        )
 
 
 @crud_schema(LampBankSerializer)
@@ -103,7 +107,9 @@ class LampBankViewSet(VersionedModelViewSet):
     http_method_names = ["get", "post", "head", "options"]
 
     def create_service(self, data, request):
-        return services.bank_create(rig=data["rig"], label=data["label"], lamps=data["lamps"])
+        return services.bank_create(
+            actor=request.user, rig=data["rig"], label=data["label"], lamps=data["lamps"]
+        )
 
 
 @crud_schema(InstrumentSerializer)
@@ -124,10 +130,12 @@ class InstrumentViewSet(VersionedModelViewSet):
     }
 
     def create_service(self, data, request):
-        return services.instrument_create(**data)
+        return services.instrument_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.instrument_update(instrument=instance, expected_version=version, **data)
+        return services.instrument_update(
+            instrument=instance, expected_version=version, actor=request.user, **data
+        )
 
     @extend_schema(responses={200: CalibrationRecordSerializer(many=True), **ERROR_RESPONSES})
     @action(detail=True, methods=["get"], pagination_class=None, filter_backends=[])
@@ -177,7 +185,9 @@ class PowerUpViewSet(VersionedModelViewSet):
         return services.powerup_open(technician=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.powerup_update(test=instance, expected_version=version, **data)
+        return services.powerup_update(
+            test=instance, expected_version=version, actor=request.user, **data
+        )
 
     def versioned_response(self, instance, status=200):
         instance = selectors.powerup_list().get(pk=instance.pk)
@@ -208,7 +218,9 @@ class PowerUpViewSet(VersionedModelViewSet):
             serializer = ReadingSerializer(data=request.data)
             serializer.is_valid(raise_exception=True)
             items, prefix = [serializer.validated_data], ""
-        created = services.readings_add(test=test, readings=items, field_prefix=prefix)
+        created = services.readings_add(
+            test=test, readings=items, actor=request.user, field_prefix=prefix
+        )
         return Response(ReadingSerializer(created, many=True).data, status=201)
 
     @extend_schema(
@@ -234,7 +246,9 @@ class PowerUpViewSet(VersionedModelViewSet):
                 code="file_too_large",
             )
         items = csv_import.parse_readings(upload)
-        created = services.readings_add(test=test, readings=items, field_prefix="row {index}.")
+        created = services.readings_add(
+            test=test, readings=items, actor=request.user, field_prefix="row {index}."
+        )
         return Response(ReadingSerializer(created, many=True).data, status=201)
 
     @extend_schema(

@@ -11,6 +11,7 @@ from django.core.validators import MaxValueValidator, MinValueValidator
 from django.db import models
 from django.utils import timezone
 
+from shop.core.immutability import AppendOnly
 from shop.core.numbering import YearCounter
 from shop.core.versioning import Versioned
 
@@ -232,7 +233,7 @@ class Job(Versioned):
             raise ValidationError({"promised_on": "The promised date is before the received date."})
 
 
-class JobMove(models.Model):
+class JobMove(AppendOnly):
     """A record of one change of a job's state: who, when, from, to and why."""
 
     job = models.ForeignKey(Job, on_delete=models.CASCADE, related_name="moves")
@@ -249,21 +250,6 @@ class JobMove(models.Model):
 
     def __str__(self) -> str:
         return f"{self.job_id}: {self.from_state} -> {self.to_state}"
-
-
-class AppendOnly(models.Model):
-    """Abstract base for records that are written once: updates and deletes are refused."""
-
-    class Meta:
-        abstract = True
-
-    def save(self, *args, **kwargs):
-        if not self._state.adding:
-            raise ValidationError(f"A {self._meta.verbose_name} is never changed once written.")
-        super().save(*args, **kwargs)
-
-    def delete(self, *args, **kwargs):
-        raise ValidationError(f"A {self._meta.verbose_name} is never deleted.")
 
 
 class RepairStep(AppendOnly):

@@ -10,11 +10,12 @@ from django.core.exceptions import ValidationError
 from django.db import IntegrityError, transaction
 from django.utils import timezone
 
+from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
 from shop.core.roles import TECHNICIAN, has_role, user_roles
-from shop.core.services import create_validated, only_fields
-from shop.core.versioning import check_version, versioned_update
+from shop.core.services import create_validated, only_fields, update_versioned
+from shop.core.versioning import check_version
 
 from .models import (
     Customer,
@@ -62,28 +63,45 @@ HASH_CHUNK = 1 << 20
 
 
 @transaction.atomic
-def customer_create(*, name: str, phone: str = "", email: str = "", notes: str = "") -> Customer:
+def customer_create(
+    *, actor, name: str, phone: str = "", email: str = "", notes: str = ""
+) -> Customer:
     return create_validated(
-        Customer, {"name": name, "phone": phone, "email": email, "notes": notes}
+        Customer,
+        {"name": name, "phone": phone, "email": email, "notes": notes},
+        actor=actor,
+        action="customer.create",
     )
 
 
 @transaction.atomic
-def customer_update(*, customer: Customer, expected_version: int | None, **changes) -> Customer:
-    return versioned_update(
-        customer, expected=expected_version, changes=only_fields(changes, CUSTOMER_FIELDS)
+def customer_update(
+    *, customer: Customer, expected_version: int | None, actor, **changes
+) -> Customer:
+    return update_versioned(
+        customer,
+        expected=expected_version,
+        changes=only_fields(changes, CUSTOMER_FIELDS),
+        actor=actor,
+        action="customer.update",
     )
 
 
 @transaction.atomic
-def unit_create(**fields) -> Unit:
-    return create_validated(Unit, only_fields(fields, UNIT_FIELDS))
+def unit_create(*, actor, **fields) -> Unit:
+    return create_validated(
+        Unit, only_fields(fields, UNIT_FIELDS), actor=actor, action="unit.create"
+    )
 
 
 @transaction.atomic
-def unit_update(*, unit: Unit, expected_version: int | None, **changes) -> Unit:
-    return versioned_update(
-        unit, expected=expected_version, changes=only_fields(changes, UNIT_FIELDS)
+def unit_update(*, unit: Unit, expected_version: int | None, actor, **changes) -> Unit:
+    return update_versioned(
+        unit,
+        expected=expected_version,
+        changes=only_fields(changes, UNIT_FIELDS),
+        actor=actor,
+        action="unit.update",
     )
 
 
@@ -100,7 +118,9 @@ def job_number_allocate(*, year: int) -> str:
 
 
 @transaction.atomic
-def job_create(*, unit: Unit, complaint: str, received_on: date | None = None, **fields) -> Job:
+def job_create(
+    *, actor, unit: Unit, complaint: str, received_on: date | None = None, **fields
+) -> Job:
     """Open a job for a unit and give it the next number of its intake year."""
     received_on = received_on or timezone.localdate()
     only_fields(fields, JOB_FIELDS)
@@ -110,15 +130,29 @@ def job_create(*, unit: Unit, complaint: str, received_on: date | None = None, *
     job.full_clean(exclude=["number"])
     job.number = job_number_allocate(year=received_on.year)
     job.save()
+    audit_record(
+        actor=actor,
+        action="job.create",
+        instance=job,
+        changes={
+            "number": job.number,
+            "unit": unit,
+            "complaint": complaint,
+            "received_on": received_on,
+            **fields,
+        },
+    )
     return job
 
 
 @transaction.atomic
-def job_update(*, job: Job, expected_version: int | None, **changes) -> Job:
+def job_update(*, job: Job, expected_version: int | None, actor, **changes) -> Job:
     only_fields(changes, JOB_FIELDS)
     if "assigned_technician" in changes:
         _check_technician(changes["assigned_technician"])
-    return versioned_update(job, expected=expected_version, changes=changes)
+    return update_versioned(
+        job, expected=expected_version, changes=changes, actor=actor, action="job.update"
+    )
 
 
 @transaction.atomic
@@ -174,7 +208,9 @@ def job_transition(
     JobMove.objects.create(
         job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note
     )
-    return versioned_update(locked, expected=None, changes=changes)
+    return update_versioned(
+        locked, expected=None, changes=changes, actor=actor, action="job.transition"
+    )
 
 
 @transaction.atomic
@@ -210,6 +246,18 @@ def repair_step_add(
     )
     step.full_clean()
     step.save()
+    audit_record(
+        actor=technician,
+        action="repair_step.add",
+        instance=step,
+        changes={
+            "job": job,
+            "action": action,
+            "parts": step.parts,
+            "minutes": minutes,
+            "corrects": corrects,
+        },
+    )
     return step
 
 
@@ -259,6 +307,18 @@ def evidence_attach(*, job: Job, upload, uploaded_by) -> tuple[Evidence, bool]:
     try:
         with transaction.atomic():
             evidence.save()
+            audit_record(
+                actor=uploaded_by,
+                action="evidence.attach",
+                instance=evidence,
+                changes={
+                    "job": job,
+                    "label": label,
+                    "content_type": kind.content_type,
+                    "size": upload.size,
+                    "sha256": digest,
+                },
+            )
     except IntegrityError:
         # The same file arrived twice at once: keep the first record, drop our stored copy.
         evidence.file.storage.delete(evidence.file.name)

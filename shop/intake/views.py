@@ -56,10 +56,12 @@ class CustomerViewSet(VersionedModelViewSet):
         return CustomerNameSerializer
 
     def create_service(self, data, request):
-        return services.customer_create(**data)
+        return services.customer_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.customer_update(customer=instance, expected_version=version, **data)
+        return services.customer_update(
+            customer=instance, expected_version=version, actor=request.user, **data
+        )
 
 
 @extend_schema_view(
@@ -80,10 +82,12 @@ class UnitViewSet(VersionedModelViewSet):
     role_rules = {"read": ANY_ROLE, "create": DESK, "update": ANY_ROLE}
 
     def create_service(self, data, request):
-        return services.unit_create(**data)
+        return services.unit_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
-        return services.unit_update(unit=instance, expected_version=version, **data)
+        return services.unit_update(
+            unit=instance, expected_version=version, actor=request.user, **data
+        )
 
 
 @extend_schema_view(
@@ -116,11 +120,13 @@ class JobViewSet(VersionedModelViewSet):
     }
 
     def create_service(self, data, request):
-        return services.job_create(**data)
+        return services.job_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
         data.pop("unit", None)
-        return services.job_update(job=instance, expected_version=version, **data)
+        return services.job_update(
+            job=instance, expected_version=version, actor=request.user, **data
+        )
 
     @extend_schema(
         request=JobTransitionSerializer,

@@ -63,21 +63,21 @@ def count_queries(client, path):
     return len(captured)
 
 
-def test_test_detail_and_readings_cost_the_same_with_100_readings(open_test, client_for):
+def test_test_detail_and_readings_cost_the_same_with_100_readings(open_test, client_for, staff):
     client = client_for("technician")
     reading = {"source_voltage": 60, "load_voltage": 50, "glow_seen": "dark"}
-    services.readings_add(test=open_test, readings=[reading])
+    services.readings_add(test=open_test, readings=[reading], actor=staff["technician"])
     paths = [
         f"/api/powerups/{open_test.pk}/",
         f"/api/powerups/{open_test.pk}/readings/",
         "/api/powerups/",
     ]
     few = [count_queries(client, path) for path in paths]
-    services.readings_add(test=open_test, readings=[reading] * 99)
+    services.readings_add(test=open_test, readings=[reading] * 99, actor=staff["technician"])
     assert [count_queries(client, path) for path in paths] == few
 
 
-def test_lists_cost_the_same_as_rows_grow(rig, lamps, meter, overdue_meter, client_for):
+def test_lists_cost_the_same_as_rows_grow(rig, lamps, meter, overdue_meter, client_for, staff):
     client = client_for("lead")
     paths = ["/api/lamps/", "/api/instruments/", "/api/rigs/"]
     few = [count_queries(client, path) for path in paths]
@@ -86,6 +86,6 @@ def test_lists_cost_the_same_as_rows_grow(rig, lamps, meter, overdue_meter, clie
 
         make_lamp(rig, watts)
     services.instrument_create(
-        kind="ammeter", response="true_rms", maker="Hale", accuracy_percent=2
+        actor=staff["lead"], kind="ammeter", response="true_rms", maker="Hale", accuracy_percent=2
     )
     assert [count_queries(client, path) for path in paths] == few

@@ -15,8 +15,8 @@ READING = {"source_voltage": 60, "load_voltage": 50, "glow_seen": "dark"}
 
 
 @pytest.fixture
-def records(open_test, rig, lamps, meter, unit):
-    services.readings_add(test=open_test, readings=[READING])
+def records(open_test, rig, lamps, meter, unit, staff):
+    services.readings_add(test=open_test, readings=[READING], actor=staff["technician"])
     return {"test": open_test, "rig": rig, "lamp": lamps[60], "meter": meter, "unit": unit}
 
 

@@ -149,9 +149,7 @@ def test_the_plot_is_well_formed_svg_with_axes_band_and_one_marker_per_reading(
 @pytest.mark.postgres
 @pytest.mark.django_db(transaction=True)
 def test_two_technicians_closing_at_once_make_one_verdict(open_test, staff):
-    services.readings_add(
-        test=open_test, readings=[{k: v for k, v in r.items()} for r in generated(240.0)]
-    )
+    services.readings_add(test=open_test, readings=generated(240.0), actor=staff["technician"])
     results, barrier = [], threading.Barrier(2)
 
     def close():

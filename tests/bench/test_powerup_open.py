@@ -11,8 +11,9 @@ from shop.intake import services as intake
 
 
 @pytest.fixture
-def hot_job(customer):
+def hot_job(customer, staff):
     unit = intake.unit_create(
+        actor=staff["front_desk"],
         owner=customer,
         category="radio",
         maker="Halvorsen",
@@ -21,7 +22,7 @@ def hot_job(customer):
         rated_power=Decimal("30"),
         construction="transformerless",
     )
-    return intake.job_create(unit=unit, complaint="Dead")
+    return intake.job_create(actor=staff["front_desk"], unit=unit, complaint="Dead")
 
 
 def open_body(job, rig, lamp, **extra):
@@ -130,8 +131,11 @@ def test_the_default_declared_load_comes_from_the_nameplate(testing_job, rig, la
     assert document["parameters"] == {"power": 60.0, "voltage": 120.0}
 
 
-def test_an_amplifier_nameplate_default_says_it_idles_lower(customer, rig, lamps, client_for):
+def test_an_amplifier_nameplate_default_says_it_idles_lower(
+    customer, rig, lamps, client_for, staff
+):
     unit = intake.unit_create(
+        actor=staff["front_desk"],
         owner=customer,
         category="amplifier",
         maker="Ashgrove",
@@ -139,7 +143,7 @@ def test_an_amplifier_nameplate_default_says_it_idles_lower(customer, rig, lamps
         rated_power=Decimal("95"),
         construction="isolating_transformer",
     )
-    job = intake.job_create(unit=unit, complaint="Hum")
+    job = intake.job_create(actor=staff["front_desk"], unit=unit, complaint="Hum")
     response = client_for("technician").post(
         "/api/powerups/", open_body(job, rig, lamps[60]), format="json"
     )

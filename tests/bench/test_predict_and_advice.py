@@ -68,10 +68,12 @@ def test_prediction_is_closed_to_anonymous_callers(client_for, db):
     assert client_for(None).post("/api/predict/", SPEC, format="json").status_code == 401
 
 
-def test_lamp_advice_ranks_every_lamp_and_bank_of_the_rig(client_for, unit, rig, lamps):
+def test_lamp_advice_ranks_every_lamp_and_bank_of_the_rig(client_for, unit, rig, lamps, staff):
     from shop.bench import services
 
-    services.bank_create(rig=rig, label="2 x 60 W", lamps=[lamps[60], lamps[40]])
+    services.bank_create(
+        actor=staff["lead"], rig=rig, label="2 x 60 W", lamps=[lamps[60], lamps[40]]
+    )
     response = client_for("technician").get(f"/api/units/{unit.pk}/lamp-advice/?rig={rig.pk}")
     assert response.status_code == 200, response.content
     advice = response.json()["advice"]

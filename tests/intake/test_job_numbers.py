@@ -12,15 +12,17 @@ from shop.intake import services
 from shop.intake.models import Job, JobMove, JobState
 
 
-def test_numbers_count_up_within_a_year_and_restart_in_the_next(unit):
+def test_numbers_count_up_within_a_year_and_restart_in_the_next(unit, staff):
     numbers = [
-        services.job_create(unit=unit, complaint="x", received_on=date(2026, 3, d)).number
+        services.job_create(
+            actor=staff["front_desk"], unit=unit, complaint="x", received_on=date(2026, 3, d)
+        ).number
         for d in (1, 2, 3)
     ]
     assert numbers == ["2026-0001", "2026-0002", "2026-0003"]
-    assert services.job_create(unit=unit, complaint="x", received_on=date(2027, 1, 2)).number == (
-        "2027-0001"
-    )
+    assert services.job_create(
+        actor=staff["front_desk"], unit=unit, complaint="x", received_on=date(2027, 1, 2)
+    ).number == ("2027-0001")
 
 
 def run_in_threads(count: int, work) -> list:
@@ -45,9 +47,15 @@ def run_in_threads(count: int, work) -> list:
 
 @pytest.mark.postgres
 @pytest.mark.django_db(transaction=True)
-def test_parallel_intakes_never_share_a_number(unit):
+def test_parallel_intakes_never_share_a_number(unit, staff):
     results = run_in_threads(
-        8, lambda: services.job_create(unit=unit, complaint="rush", received_on=date(2026, 5, 1))
+        8,
+        lambda: services.job_create(
+            actor=staff["front_desk"],
+            unit=unit,
+            complaint="rush",
+            received_on=date(2026, 5, 1),
+        ),
     )
     assert not [r for r in results if isinstance(r, Exception)], results
     numbers = sorted(Job.objects.values_list("number", flat=True))
@@ -69,3 +77,26 @@ def test_two_people_moving_one_job_at_once_never_lose_a_move(job, staff):
     assert job.state == JobState.DIAGNOSING
     assert JobMove.objects.filter(job=job).count() == 1
     assert job.version == 2
+
+
+@pytest.mark.postgres
+@pytest.mark.django_db(transaction=True)
+def test_two_api_moves_of_one_job_give_one_winner_and_no_server_error(job, staff):
+    from rest_framework.test import APIClient
+
+    etag = f'"v{job.version}"'
+
+    def move():
+        client = APIClient()
+        client.force_authenticate(staff["lead"])
+        return client.post(
+            f"/api/jobs/{job.pk}/transition/",
+            {"to_state": "diagnosing"},
+            format="json",
+            HTTP_IF_MATCH=etag,
+        ).status_code
+
+    statuses = sorted(run_in_threads(2, move))
+    assert statuses[0] == 200
+    assert statuses[1] in {409, 412}
+    assert JobMove.objects.filter(job=job).count() == 1

@@ -12,13 +12,16 @@ from shop.intake import services
 def add_records(customer, technician, count: int) -> None:
     for index in range(count):
         unit = services.unit_create(
+            actor=technician,
             owner=customer,
             category="radio",
             maker=f"Maker {index}",
             rated_voltage=120,
             rated_power=50,
         )
-        job = services.job_create(unit=unit, complaint="Dead", assigned_technician=technician)
+        job = services.job_create(
+            actor=technician, unit=unit, complaint="Dead", assigned_technician=technician
+        )
         services.repair_step_add(
             job=job,
             technician=technician,
@@ -56,7 +59,7 @@ def test_list_query_count_does_not_grow_with_rows(customer, staff, client_for, p
 def test_job_detail_query_count_is_constant(customer, staff, client_for):
     client = client_for("technician")
     add_records(customer, staff["technician"], 1)
-    first = services.job_create(unit=customer.units.first(), complaint="Dead")
+    first = services.job_create(actor=staff["lead"], unit=customer.units.first(), complaint="Dead")
     few = queries_for(client, f"/api/jobs/{first.pk}/")
     add_records(customer, staff["technician"], 10)
     assert queries_for(client, f"/api/jobs/{first.pk}/") == few

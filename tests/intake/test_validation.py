@@ -101,11 +101,16 @@ def test_a_bad_part_is_named_by_its_position(job, client_for):
     assert set(response.json()["error"]["fields"]) == {"parts.1.part", "parts.1.quantity"}
 
 
-def test_a_job_unit_cannot_be_swapped(job, customer, client_for):
+def test_a_job_unit_cannot_be_swapped(job, customer, client_for, staff):
     from shop.intake import services
 
     other = services.unit_create(
-        owner=customer, category="radio", maker="Other", rated_voltage=120, rated_power=30
+        actor=staff["front_desk"],
+        owner=customer,
+        category="radio",
+        maker="Other",
+        rated_voltage=120,
+        rated_power=30,
     )
     response = client_for("lead").patch(f"/api/jobs/{job.pk}/", {"unit": other.pk}, format="json")
     assert response.status_code == 400

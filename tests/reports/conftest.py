@@ -16,7 +16,7 @@ READINGS = [
 
 @pytest.fixture
 def closed_test(open_test, staff):
-    bench.readings_add(test=open_test, readings=READINGS)
+    bench.readings_add(test=open_test, readings=READINGS, actor=staff["technician"])
     bench.powerup_close(test=open_test, actor=staff["technician"])
     open_test.refresh_from_db()
     return open_test

@@ -8,6 +8,7 @@ from io import StringIO
 import pytest
 from django.core.management import call_command
 from django.core.management.base import CommandError
+from django.db import connection
 from pypdf import PdfReader
 
 from reports import services
@@ -28,8 +29,12 @@ def pdf_text(content: bytes) -> str:
 
 
 def tamper(certificate: Certificate, new_snapshot: str) -> None:
-    # Bypasses the model's refusal on purpose: what an attacker with database access does.
-    Certificate.objects.filter(pk=certificate.pk).update(snapshot=new_snapshot)
+    # Raw SQL on purpose: the models refuse the change, an attacker with the database does not.
+    table = Certificate._meta.db_table
+    with connection.cursor() as cursor:
+        cursor.execute(
+            f"UPDATE {table} SET snapshot = %s WHERE id = %s", [new_snapshot, certificate.pk]
+        )
 
 
 def test_a_lead_issues_downloads_and_supersedes_and_the_old_one_verifies_superseded(

@@ -62,15 +62,22 @@ def test_a_job_before_testing_cannot_be_certified(closed_test, staff):
     assert caught.value.code == "job_not_certifiable"
 
 
-def test_an_out_of_calibration_meter_needs_a_stated_override(closed_test, staff, overdue_meter):
-    from shop.bench.models import PowerUpTest
+def test_an_out_of_calibration_meter_needs_a_stated_override(open_test, staff, overdue_meter):
+    from tests.reports.conftest import READINGS
 
-    PowerUpTest.objects.filter(pk=closed_test.pk).update(source_meter=overdue_meter)
-    closed_test.refresh_from_db()
+    bench.powerup_update(
+        test=open_test, expected_version=None, actor=staff["technician"], source_meter=overdue_meter
+    )
+    bench.readings_add(test=open_test, readings=READINGS, actor=staff["technician"])
+    bench.powerup_close(test=open_test, actor=staff["technician"])
     with pytest.raises(Conflict) as caught:
-        issue(closed_test, staff)
+        services.certificate_issue(job=open_test.job, issued_by=staff["lead"])
     assert caught.value.code == "instrument_out_of_calibration"
-    certificate = issue(closed_test, staff, calibration_override="Checked against C9-001 today")
+    certificate = services.certificate_issue(
+        job=open_test.job,
+        issued_by=staff["lead"],
+        calibration_override="Checked against C9-001 today",
+    )
     override = json.loads(certificate.snapshot)["tests"][0]["calibration_override"]
     assert override["reason"] == "Checked against C9-001 today"
 
@@ -120,7 +127,7 @@ def test_numbers_count_up(closed_test, staff):
 def test_tests_of_another_job_are_refused(closed_test, staff, unit, rig, lamps):
     from shop.intake import services as intake
 
-    other_job = intake.job_create(unit=unit, complaint="other")
+    other_job = intake.job_create(actor=staff["front_desk"], unit=unit, complaint="other")
     other = bench.powerup_open(
         job=other_job, rig=rig, lamp=lamps[40], technician=staff["technician"]
     )

@@ -83,17 +83,21 @@ class Command(BaseCommand):
 
     def load_records(self, data: dict, staff: dict[str, User]) -> dict:
         lead = next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
+        desk = next(staff[p["username"]] for p in data["staff"] if p["role"] == "front_desk")
         customers = {}
         for entry in data["customers"]:
             fields = {k: v for k, v in entry.items() if k != "key"}
-            customers[entry["key"]] = services.customer_create(**fields)
+            customers[entry["key"]] = services.customer_create(actor=desk, **fields)
         units = {}
         for entry in data["units"]:
             fields = {k: v for k, v in entry.items() if k not in {"key", "owner"}}
-            units[entry["key"]] = services.unit_create(owner=customers[entry["owner"]], **fields)
+            units[entry["key"]] = services.unit_create(
+                actor=desk, owner=customers[entry["owner"]], **fields
+            )
         today = timezone.localdate()
         for entry in data["jobs"]:
             job = services.job_create(
+                actor=desk,
                 unit=units[entry["unit"]],
                 complaint=entry["complaint"],
                 received_on=today - timedelta(days=entry["days_ago"]),
