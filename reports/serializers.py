@@ -16,7 +16,9 @@ class CertificateEventSerializer(serializers.ModelSerializer):
     """A supersede or revoke: who, when, why."""
 
     by = serializers.CharField(source="by.username", read_only=True)
-    replacement = serializers.CharField(source="replacement.number", default=None, read_only=True)
+    replacement = serializers.CharField(
+        source="replacement.number", default=None, read_only=True, allow_null=True
+    )
 
     class Meta:
         model = CertificateEvent
@@ -29,9 +31,11 @@ class CertificateSerializer(serializers.ModelSerializer):
 
     job_number = serializers.CharField(source="job.number", read_only=True)
     issued_by = serializers.CharField(source="issued_by.username", read_only=True)
-    supersedes = serializers.CharField(source="supersedes.number", default=None, read_only=True)
+    supersedes = serializers.CharField(
+        source="supersedes.number", default=None, read_only=True, allow_null=True
+    )
     superseded_by = serializers.CharField(
-        source="superseded_by.number", default=None, read_only=True
+        source="superseded_by.number", default=None, read_only=True, allow_null=True
     )
     status = serializers.SerializerMethodField()
     intact = serializers.SerializerMethodField()

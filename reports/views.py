@@ -4,7 +4,12 @@ from __future__ import annotations
 
 from django.http import HttpResponse
 from drf_spectacular.types import OpenApiTypes
-from drf_spectacular.utils import OpenApiParameter, OpenApiResponse, extend_schema
+from drf_spectacular.utils import (
+    OpenApiParameter,
+    OpenApiResponse,
+    extend_schema,
+    extend_schema_view,
+)
 from rest_framework import mixins, viewsets
 from rest_framework.decorators import action
 from rest_framework.generics import GenericAPIView
@@ -15,7 +20,7 @@ from rest_framework.throttling import AnonRateThrottle
 
 from shop.core.errors import error_body
 from shop.core.roles import ANY_ROLE, LEAD, HasShopRole
-from shop.core.schema import ERROR_RESPONSES, WRITE_ERROR_RESPONSES
+from shop.core.schema import ERROR_RESPONSES, THROTTLED_RESPONSE, WRITE_ERROR_RESPONSES
 from shop.intake.models import Job
 
 from . import selectors, services
@@ -41,6 +46,10 @@ def pdf_response(content: bytes, filename: str) -> HttpResponse:
     return response
 
 
+@extend_schema_view(
+    list=extend_schema(responses={200: CertificateSerializer(many=True), **ERROR_RESPONSES}),
+    retrieve=extend_schema(responses={200: CertificateSerializer, **ERROR_RESPONSES}),
+)
 class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets.GenericViewSet):
     """Power-up test certificates: issued by leads, never edited; corrections supersede."""
 
@@ -151,7 +160,11 @@ class VerifyView(GenericAPIView):
                 "code", str, required=True, description="The verification code printed on it."
             )
         ],
-        responses={200: VerificationSerializer, 404: ERROR_RESPONSES[404]},
+        responses={
+            200: VerificationSerializer,
+            404: ERROR_RESPONSES[404],
+            429: THROTTLED_RESPONSE,
+        },
     )
     def get(self, request, number: str):
         certificate = selectors.certificate_for_verification(

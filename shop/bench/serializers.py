@@ -167,6 +167,11 @@ class LampSerializer(serializers.ModelSerializer):
             "updated_at",
         ]
 
+    def validate_rig(self, rig):
+        if self.instance is not None and rig.pk != self.instance.rig_id:
+            raise serializers.ValidationError("A lamp's rig cannot change; add the lamp anew.")
+        return rig
+
 
 class LampBankSerializer(serializers.ModelSerializer):
     """Lamps of one rig switched in parallel."""

@@ -90,6 +90,7 @@ class LampViewSet(VersionedModelViewSet):
         return services.lamp_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
+        data.pop("rig", None)  # the serializer refuses a change; the same rig is no change
         return services.lamp_update(
             lamp=instance, expected_version=version, actor=request.user, **data
         )
@@ -232,7 +233,12 @@ class PowerUpViewSet(VersionedModelViewSet):
         "of the file is kept.",
     )
     @action(
-        detail=True, methods=["post"], url_path="readings/import", parser_classes=[MultiPartParser]
+        detail=True,
+        methods=["post"],
+        url_path="readings/import",
+        parser_classes=[MultiPartParser],
+        pagination_class=None,
+        filter_backends=[],
     )
     def import_readings(self, request, pk=None):
         test = self.get_object()

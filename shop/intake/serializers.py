@@ -15,7 +15,7 @@ MAX_PARTS_PER_STEP = 100
 
 
 class CustomerSerializer(serializers.ModelSerializer):
-    """A customer with contact details (front desk and leads)."""
+    """A customer; the contact details (phone, email, notes) go to the front desk and leads only."""
 
     class Meta:
         model = Customer
@@ -28,7 +28,7 @@ class CustomerNameSerializer(serializers.ModelSerializer):
 
     class Meta:
         model = Customer
-        fields = ["id", "name", "version"]
+        fields = ["id", "name", "version", "created_at", "updated_at"]
         read_only_fields = fields
 
 
@@ -93,7 +93,13 @@ class JobSerializer(serializers.ModelSerializer):
         queryset=technician_queryset(), allow_null=True, required=False
     )
     assigned_technician_name = serializers.CharField(
-        source="assigned_technician.username", read_only=True, default=None
+        source="assigned_technician.username", read_only=True, default=None, allow_null=True
+    )
+    held_from = serializers.ChoiceField(
+        choices=JobState.choices,
+        allow_blank=True,
+        read_only=True,
+        help_text="The state a job on hold returns to (blank unless on hold).",
     )
     allowed_targets = serializers.SerializerMethodField()
 
