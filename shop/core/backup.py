@@ -1,0 +1,617 @@
+"""Backups: one zip archive of every record and every media file, checked by SHA-256 on restore.
+
+An archive holds:
+
+- ``manifest.json``: the format, when it was written, the migrations the database had, each
+  model's member and record count, and each media file's storage name and size;
+- ``db/NNN-<app>.<model>.jsonl``: every row of one model in Django's JSON Lines serialization
+  (the ``dumpdata --format jsonl`` shape, so ``loaddata`` can read a member too), primary keys
+  kept; content types and permissions are named by natural key because every database numbers
+  them itself when it is migrated;
+- ``media/<storage name>``: every file in the default storage (evidence and anything else);
+- ``SHA256SUMS``: the SHA-256 of every other member, in ``sha256sum -c`` format.
+
+Restoring verifies every member before touching the database, refuses a database that already
+holds records, and then loads rows and writes files in one transaction: all or nothing.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import io
+import json
+import posixpath
+import tempfile
+import zipfile
+import zlib
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass, field
+from datetime import UTC, datetime, time
+from pathlib import Path
+
+from django.apps import apps
+from django.core import serializers
+from django.core.files import File
+from django.core.files.storage import Storage, default_storage
+from django.core.management.color import no_style
+from django.core.serializers.base import DeserializationError
+from django.core.serializers.json import DjangoJSONEncoder
+from django.core.serializers.jsonl import Serializer as JsonLinesSerializer
+from django.db import DEFAULT_DB_ALIAS, DatabaseError, connections, router, transaction
+from django.db.migrations.recorder import MigrationRecorder
+from django.db.models import Model
+
+from .errors import ApplicationError
+
+FORMAT = "bench-record-service-backup"
+FORMAT_VERSION = 1
+MANIFEST = "manifest.json"
+SUMS = "SHA256SUMS"
+DB_PREFIX = "db/"
+MEDIA_PREFIX = "media/"
+# Rows fetched per query while dumping: bounded memory for a table of any size.
+CHUNK_ROWS = 2000
+# Progress line every this many rows of one model, so a large table shows it is moving.
+PROGRESS_ROWS = 10_000
+# Progress line every this many media files (every file at verbosity 2).
+PROGRESS_FILES = 100
+COPY_BLOCK = 1 << 20
+# Every database numbers these itself when migrated: the archive names them by natural key.
+NAMED_BY_NATURAL_KEY = frozenset({"contenttypes.contenttype", "auth.permission"})
+# Rows a fresh `migrate` creates (the role groups); the archive's own rows replace them.
+SEEDED_BY_MIGRATIONS = ("auth.group",)
+
+Progress = Callable[[str], None]
+
+
+def _quiet(message: str) -> None:
+    """Progress sink that drops every message."""
+
+
+@dataclass
+class BackupSummary:
+    """What one backup or restore handled: records per model and media files."""
+
+    path: Path
+    records: dict[str, int] = field(default_factory=dict)
+    files: int = 0
+    file_bytes: int = 0
+    files_already_present: int = 0
+
+    @property
+    def total_records(self) -> int:
+        return sum(self.records.values())
+
+
+class _ExactEncoder(DjangoJSONEncoder):
+    """Django's JSON encoder without its rounding of times to whole milliseconds."""
+
+    def default(self, o):
+        if isinstance(o, (datetime, time)):
+            return o.isoformat()
+        return super().default(o)
+
+
+class _PortableSerializer(JsonLinesSerializer):
+    """JSON Lines naming content types and permissions by natural key and every other row by pk.
+
+    Natural keys everywhere would turn each reference to a user into a lookup on restore; only
+    the rows each database numbers for itself need them.
+    """
+
+    def handle_fk_field(self, obj, field):
+        self.use_natural_foreign_keys = _named_by_natural_key(field.remote_field.model)
+        super().handle_fk_field(obj, field)
+
+    def handle_m2m_field(self, obj, field):
+        self.use_natural_foreign_keys = _named_by_natural_key(field.remote_field.model)
+        super().handle_m2m_field(obj, field)
+
+
+class _HashingWriter(io.RawIOBase):
+    """Writes bytes through to `target` while keeping their SHA-256."""
+
+    def __init__(self, target):
+        self.target = target
+        self.sha256 = hashlib.sha256()
+
+    def writable(self) -> bool:
+        return True
+
+    def write(self, data) -> int:
+        self.sha256.update(data)
+        self.target.write(data)
+        return len(data)
+
+
+class _HashingReader(io.RawIOBase):
+    """Reads bytes from `source` while keeping their SHA-256."""
+
+    def __init__(self, source):
+        self.source = source
+        self.sha256 = hashlib.sha256()
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        data = self.source.read(len(buffer))
+        buffer[: len(data)] = data
+        self.sha256.update(data)
+        return len(data)
+
+
+def _named_by_natural_key(model: type[Model]) -> bool:
+    return model._meta.label_lower in NAMED_BY_NATURAL_KEY
+
+
+def backed_up_models(using: str = DEFAULT_DB_ALIAS) -> list[type[Model]]:
+    """Every model whose rows the archive carries, natural-key dependencies first."""
+    ordered = serializers.sort_dependencies(
+        [(config, None) for config in apps.get_app_configs()], allow_cycles=True
+    )
+    return [
+        model
+        for model in ordered
+        if not model._meta.proxy
+        and model._meta.managed
+        and not _named_by_natural_key(model)
+        and router.allow_migrate_model(using, model)
+    ]
+
+
+def applied_migrations(using: str = DEFAULT_DB_ALIAS) -> dict[str, list[str]]:
+    """The migrations applied to the database, by app."""
+    applied: dict[str, list[str]] = {}
+    for app_label, name in sorted(MigrationRecorder(connections[using]).applied_migrations()):
+        applied.setdefault(app_label, []).append(name)
+    return applied
+
+
+def media_names(storage: Storage, folder: str = "") -> Iterator[str]:
+    """Every file name in `storage` under `folder`, sorted, walking sub-folders."""
+    try:
+        folders, files = storage.listdir(folder)
+    except FileNotFoundError:
+        return
+    for name in sorted(files):
+        yield posixpath.join(folder, name) if folder else name
+    for sub in sorted(folders):
+        yield from media_names(storage, posixpath.join(folder, sub) if folder else sub)
+
+
+def _rows(model: type[Model], using: str):
+    fk_named = [
+        f.name
+        for f in model._meta.concrete_fields
+        if f.is_relation and _named_by_natural_key(f.remote_field.model)
+    ]
+    many = [f.name for f in model._meta.many_to_many if f.remote_field.through._meta.auto_created]
+    queryset = model._base_manager.using(using).order_by(model._meta.pk.name)
+    if fk_named:
+        queryset = queryset.select_related(*fk_named)
+    if many:
+        queryset = queryset.prefetch_related(*many)
+    return queryset.iterator(chunk_size=CHUNK_ROWS)
+
+
+def _counted(rows, label: str, progress: Progress, tally: dict[str, int]):
+    for row in rows:
+        tally[label] += 1
+        if tally[label] % PROGRESS_ROWS == 0:
+            progress(f"  {label}: {tally[label]} records so far")
+        yield row
+
+
+@contextmanager
+def _one_snapshot(using: str):
+    """One transaction over the whole dump, so every model is read at the same moment.
+
+    On PostgreSQL a repeatable-read snapshot lets writers carry on; on SQLite the project's
+    immediate transactions make writers wait (up to the busy timeout) while the dump runs.
+    """
+    connection = connections[using]
+    outermost = not connection.in_atomic_block
+    with transaction.atomic(using=using):
+        if outermost and connection.vendor == "postgresql":
+            with connection.cursor() as cursor:
+                cursor.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
+        yield
+
+
+def backup_create(
+    *,
+    path: Path,
+    using: str = DEFAULT_DB_ALIAS,
+    storage: Storage | None = None,
+    progress: Progress = _quiet,
+    verbosity: int = 1,
+) -> BackupSummary:
+    """Write every record and media file to a new zip archive at `path`.
+
+    The archive is written beside `path` under a temporary name and renamed when complete, so
+    an interrupted backup never leaves a file that looks finished.
+    """
+    path = Path(path)
+    if path.exists():
+        raise ApplicationError(
+            f"{path} already exists; name a new file so that no earlier backup is overwritten.",
+            field="output",
+            code="archive_exists",
+        )
+    path.parent.mkdir(parents=True, exist_ok=True)
+    storage = storage or default_storage
+    summary = BackupSummary(path=path)
+    manifest = {
+        "format": FORMAT,
+        "version": FORMAT_VERSION,
+        "created_at": datetime.now(UTC).isoformat(),
+        "database_vendor": connections[using].vendor,
+        "migrations": applied_migrations(using),
+        "models": [],
+        "media": [],
+    }
+    sums: dict[str, str] = {}
+    partial = path.with_name(path.name + ".partial")
+    try:
+        with zipfile.ZipFile(partial, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+            with _one_snapshot(using):
+                for index, model in enumerate(backed_up_models(using), start=1):
+                    entry = _write_records(archive, model, index, using, progress, summary)
+                    sums[entry["member"]] = entry.pop("sha256")
+                    manifest["models"].append(entry)
+            progress(
+                f"Database: {_records_text(summary.total_records)} in {len(summary.records)} models"
+            )
+            # Media after the records: every file a dumped row names was stored before its row.
+            for name in media_names(storage):
+                try:
+                    entry = _write_media(archive, storage, name)
+                except FileNotFoundError:
+                    # Gone since listed: only a failed upload's file is ever removed.
+                    progress(f"  {name}: removed while the backup ran; left out")
+                    continue
+                sums[entry["member"]] = entry.pop("sha256")
+                manifest["media"].append(entry)
+                summary.files += 1
+                summary.file_bytes += entry["bytes"]
+                _file_progress(progress, verbosity, summary.files, name, entry["bytes"])
+            progress(f"Media: {summary.files} files, {summary.file_bytes} bytes")
+            manifest_bytes = json.dumps(manifest, indent=1, sort_keys=True).encode()
+            archive.writestr(MANIFEST, manifest_bytes)
+            sums[MANIFEST] = hashlib.sha256(manifest_bytes).hexdigest()
+            archive.writestr(SUMS, "".join(f"{sums[m]}  {m}\n" for m in sorted(sums)))
+        partial.replace(path)
+    finally:
+        partial.unlink(missing_ok=True)
+    return summary
+
+
+def _write_records(archive, model, index: int, using: str, progress, summary) -> dict:
+    """Dump one model's rows into its own member; return its manifest entry and SHA-256."""
+    label = model._meta.label_lower
+    member = f"{DB_PREFIX}{index:03d}-{label}.jsonl"
+    summary.records[label] = 0
+    with archive.open(member, "w", force_zip64=True) as raw:
+        sink = _HashingWriter(raw)
+        with io.TextIOWrapper(
+            io.BufferedWriter(sink, COPY_BLOCK), encoding="utf-8", newline=""
+        ) as text:
+            _PortableSerializer().serialize(
+                _counted(_rows(model, using), label, progress, summary.records),
+                stream=text,
+                cls=_ExactEncoder,
+            )
+    progress(f"  {label}: {_records_text(summary.records[label])}")
+    return {
+        "model": label,
+        "member": member,
+        "records": summary.records[label],
+        "sha256": sink.sha256.hexdigest(),
+    }
+
+
+def _write_media(archive, storage: Storage, name: str) -> dict:
+    """Copy one stored file into the archive; return its manifest entry and SHA-256."""
+    member = MEDIA_PREFIX + name
+    with storage.open(name, "rb") as source, archive.open(member, "w", force_zip64=True) as raw:
+        sink = _HashingWriter(raw)
+        size = _copy(source, sink)
+    return {"name": name, "member": member, "bytes": size, "sha256": sink.sha256.hexdigest()}
+
+
+def _copy(source, target) -> int:
+    size = 0
+    while block := source.read(COPY_BLOCK):
+        target.write(block)
+        size += len(block)
+    return size
+
+
+def _records_text(count: int) -> str:
+    return f"{count} record" if count == 1 else f"{count} records"
+
+
+def _file_progress(progress: Progress, verbosity: int, done: int, name: str, size: int) -> None:
+    if verbosity >= 2:
+        progress(f"  {name}: {size} bytes")
+    elif done % PROGRESS_FILES == 0:
+        progress(f"  {done} files so far")
+
+
+def _damaged(member: str, exc: Exception) -> ApplicationError:
+    return ApplicationError(
+        f"The archive member {member} is damaged ({exc}); nothing was restored. "
+        "Use another copy of the backup.",
+        code="archive_damaged",
+        extra={"member": member},
+    )
+
+
+def _open_archive(path: Path) -> zipfile.ZipFile:
+    try:
+        return zipfile.ZipFile(path)
+    except FileNotFoundError:
+        raise ApplicationError(f"There is no file at {path}.", code="archive_missing") from None
+    except (zipfile.BadZipFile, OSError) as exc:
+        raise ApplicationError(
+            f"{path} is not a readable backup archive ({exc}); nothing was restored.",
+            code="archive_damaged",
+        ) from exc
+
+
+def _member_sha256(archive: zipfile.ZipFile, member: str) -> str:
+    digest = hashlib.sha256()
+    try:
+        with archive.open(member) as stream:
+            while block := stream.read(COPY_BLOCK):
+                digest.update(block)
+    except (zipfile.BadZipFile, zlib.error, EOFError, OSError) as exc:
+        raise _damaged(member, exc) from exc
+    return digest.hexdigest()
+
+
+def _read_sums(archive: zipfile.ZipFile) -> dict[str, str]:
+    try:
+        text = archive.read(SUMS).decode()
+    except KeyError:
+        raise ApplicationError(
+            f"The archive has no {SUMS}: it is not a backup written by `manage.py backup`.",
+            code="archive_damaged",
+        ) from None
+    except (zipfile.BadZipFile, zlib.error, EOFError, OSError, UnicodeDecodeError) as exc:
+        raise _damaged(SUMS, exc) from exc
+    sums = {}
+    for line in text.splitlines():
+        digest, _, member = line.partition("  ")
+        if len(digest) != 64 or not member:
+            raise _damaged(SUMS, ValueError(f"unreadable line {line!r}"))
+        sums[member] = digest
+    return sums
+
+
+def backup_verify(*, path: Path, progress: Progress = _quiet) -> dict:
+    """Check every member of the archive against its SHA-256 sum; return the manifest.
+
+    Refuses, naming the member, when a member is damaged, altered, missing or not listed.
+    """
+    with _open_archive(Path(path)) as archive:
+        manifest, _ = _verified(archive, progress)
+    return manifest
+
+
+def _verified(archive: zipfile.ZipFile, progress: Progress) -> tuple[dict, dict[str, str]]:
+    """The manifest and the sums of an archive whose every member matches its sum."""
+    sums = _read_sums(archive)
+    names = archive.namelist()
+    unlisted = sorted(set(names) - set(sums) - {SUMS})
+    if unlisted or len(names) != len(set(names)):
+        member = unlisted[0] if unlisted else next(n for n in names if names.count(n) > 1)
+        raise _damaged(member, ValueError(f"the member is not listed once in {SUMS}"))
+    missing = sorted(set(sums) - set(names))
+    if missing:
+        raise _damaged(missing[0], ValueError(f"{SUMS} lists it but the archive lacks it"))
+    for count, member in enumerate(sorted(sums), start=1):
+        if _member_sha256(archive, member) != sums[member]:
+            raise _damaged(member, ValueError(f"its SHA-256 differs from {SUMS}"))
+        if count % PROGRESS_FILES == 0:
+            progress(f"  checked {count} of {len(sums)} members")
+    progress(f"Checked the SHA-256 of all {len(sums)} members")
+    try:
+        manifest = json.loads(archive.read(MANIFEST))
+        _check_manifest(manifest, sums)
+    except (KeyError, TypeError, AttributeError, ValueError) as exc:
+        raise _damaged(MANIFEST, exc) from exc
+    return manifest, sums
+
+
+def _check_manifest(manifest: dict, sums: dict[str, str]) -> None:
+    """Refuse another format, and a manifest that does not account for exactly the members."""
+    if manifest.get("format") != FORMAT or manifest.get("version") != FORMAT_VERSION:
+        raise ApplicationError(
+            f"The archive is format {manifest.get('format')!r} version "
+            f"{manifest.get('version')!r}; this service reads {FORMAT!r} version "
+            f"{FORMAT_VERSION}.",
+            code="archive_format",
+        )
+    listed = [entry["member"] for entry in manifest["models"] + manifest["media"]]
+    if sorted([*listed, MANIFEST]) != sorted(sums):
+        raise ValueError(f"it does not list exactly the members in {SUMS}")
+    for entry in manifest["media"]:
+        name = entry["name"]
+        if (
+            entry["member"] != MEDIA_PREFIX + name
+            or name.startswith("/")
+            or ".." in name.split("/")
+        ):
+            raise ValueError(f"{entry['member']} does not name a plain relative path")
+    for entry in manifest["models"]:
+        int(entry["records"])
+    dict(manifest["migrations"])
+
+
+def _check_schema(manifest: dict, using: str) -> None:
+    ours = {(app, name) for app, names in applied_migrations(using).items() for name in names}
+    theirs = {(app, name) for app, names in manifest["migrations"].items() for name in names}
+    if ours != theirs:
+        lacking = sorted(f"{a}.{n}" for a, n in theirs - ours)
+        extra = sorted(f"{a}.{n}" for a, n in ours - theirs)
+        raise ApplicationError(
+            "The database's migrations differ from the archive's "
+            f"(the database lacks {lacking or 'none'}; it has besides {extra or 'none'}). "
+            "Restore with the release that wrote the archive, then migrate.",
+            code="schema_mismatch",
+        )
+
+
+def _check_empty(models: list[type[Model]], using: str) -> None:
+    occupied = [
+        f"{model._meta.label_lower} ({_records_text(model._base_manager.using(using).count())})"
+        for model in models
+        if model._meta.label_lower not in SEEDED_BY_MIGRATIONS
+        and model._base_manager.using(using).exists()
+    ]
+    if occupied:
+        raise ApplicationError(
+            "The database already holds records: "
+            + ", ".join(occupied)
+            + ". Restore only into an empty database (a new one, migrated and nothing else).",
+            code="database_not_empty",
+        )
+
+
+def _files_to_write(manifest: dict, archive: zipfile.ZipFile, storage: Storage) -> list[dict]:
+    """The media entries to write; a file already stored with the same content is skipped."""
+    wanted = []
+    for entry in manifest["media"]:
+        if not storage.exists(entry["name"]):
+            wanted.append(entry)
+            continue
+        with storage.open(entry["name"], "rb") as present:
+            digest = hashlib.sha256()
+            while block := present.read(COPY_BLOCK):
+                digest.update(block)
+        if digest.hexdigest() != _member_sha256(archive, entry["member"]):
+            raise ApplicationError(
+                f"The media storage already holds a different {entry['name']}; restore into "
+                "empty media storage (nothing was restored).",
+                code="media_not_empty",
+            )
+    return wanted
+
+
+def _load_model(archive, entry: dict, sums: dict, using: str, progress: Progress) -> type[Model]:
+    member, label = entry["member"], entry["model"]
+    try:
+        model = apps.get_model(label)
+    except LookupError:
+        raise ApplicationError(
+            f"The archive holds records of {label}, which this release does not have.",
+            code="schema_mismatch",
+        ) from None
+    count = 0
+    with archive.open(member) as raw:
+        reader = _HashingReader(raw)
+        stream = io.TextIOWrapper(io.BufferedReader(reader, COPY_BLOCK), encoding="utf-8")
+        try:
+            for item in serializers.deserialize("jsonl", stream, using=using):
+                if type(item.object) is not model:
+                    raise DeserializationError(
+                        f"it holds a {item.object._meta.label_lower} row among {label} rows"
+                    )
+                # Raw insert through Model.save_base: append-only models refuse save() on
+                # existing rows, but a restore only ever adds new ones.
+                item.save(using=using, force_insert=True)
+                count += 1
+                if count % PROGRESS_ROWS == 0:
+                    progress(f"  {label}: {count} of {entry['records']} records")
+        except (DeserializationError, DatabaseError) as exc:
+            raise ApplicationError(
+                f"Could not load {member}: {exc}. Nothing was restored.", code="archive_invalid"
+            ) from exc
+    if reader.sha256.hexdigest() != sums[member] or count != entry["records"]:
+        raise _damaged(member, ValueError("it changed while being restored"))
+    progress(f"  {label}: {_records_text(count)}")
+    return model
+
+
+def _write_file(archive, entry: dict, sums: dict, storage: Storage) -> None:
+    with tempfile.TemporaryFile() as spool:
+        with archive.open(entry["member"]) as raw:
+            sink = _HashingWriter(spool)
+            _copy(raw, sink)
+        if sink.sha256.hexdigest() != sums[entry["member"]]:
+            raise _damaged(entry["member"], ValueError("it changed while being restored"))
+        spool.seek(0)
+        stored = storage.save(entry["name"], File(spool))
+    if stored != entry["name"]:
+        storage.delete(stored)
+        raise ApplicationError(
+            f"The media storage saved {entry['name']} as {stored}; nothing was restored.",
+            code="media_not_empty",
+        )
+
+
+def backup_restore(
+    *,
+    path: Path,
+    using: str = DEFAULT_DB_ALIAS,
+    storage: Storage | None = None,
+    progress: Progress = _quiet,
+    verbosity: int = 1,
+) -> BackupSummary:
+    """Bring an archive back into an empty database and media storage, all or nothing.
+
+    Every member's SHA-256 is checked before anything is written; the database must hold no
+    records except the role groups a fresh `migrate` creates, which the archive's replace.
+    """
+    storage = storage or default_storage
+    summary = BackupSummary(path=Path(path))
+    connection = connections[using]
+    with _open_archive(Path(path)) as archive:
+        _check_empty(backed_up_models(using), using)
+        manifest, sums = _verified(archive, progress)
+        _check_schema(manifest, using)
+        files = _files_to_write(manifest, archive, storage)
+        summary.files_already_present = len(manifest["media"]) - len(files)
+        written: list[str] = []
+        try:
+            with transaction.atomic(using=using):
+                for label in SEEDED_BY_MIGRATIONS:
+                    apps.get_model(label)._base_manager.using(using).all().delete()
+                loaded = []
+                for entry in manifest["models"]:
+                    loaded.append(_load_model(archive, entry, sums, using, progress))
+                    summary.records[entry["model"]] = entry["records"]
+                with connection.cursor() as cursor:
+                    for sql in connection.ops.sequence_reset_sql(no_style(), loaded):
+                        cursor.execute(sql)
+                try:
+                    connection.check_constraints(table_names=[m._meta.db_table for m in loaded])
+                except DatabaseError as exc:
+                    raise ApplicationError(
+                        f"The archive's records refer to records it lacks ({exc}); "
+                        "nothing was restored.",
+                        code="archive_invalid",
+                    ) from exc
+                progress(
+                    f"Database: {_records_text(summary.total_records)} in {len(loaded)} models"
+                )
+                for entry in files:
+                    _write_file(archive, entry, sums, storage)
+                    written.append(entry["name"])
+                    summary.files += 1
+                    summary.file_bytes += entry["bytes"]
+                    _file_progress(
+                        progress, verbosity, summary.files, entry["name"], entry["bytes"]
+                    )
+                progress(
+                    f"Media: {summary.files} files written, "
+                    f"{summary.files_already_present} already present"
+                )
+        except BaseException:
+            for name in written:
+                storage.delete(name)
+            raise
+    return summary
