@@ -2,20 +2,34 @@
 
 from django.contrib import admin
 from django.urls import include, path
-from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
+from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerSplitView
 
 from reports.urls import api_urlpatterns, public_urlpatterns
-from shop.core.auth_views import TokenObtainView
+from shop.core.auth_views import (
+    SessionLoginView,
+    TokenObtainView,
+    TokenRevokeView,
+    UserTokenRevokeView,
+)
 
 handler404 = "shop.core.errors.json_not_found"
 handler500 = "shop.core.errors.json_server_error"
 
 urlpatterns = [
     path("admin/", admin.site.urls),
+    # Before DRF's own auth routes, so that its sign-in page is the throttled one.
+    path("api/auth/login/", SessionLoginView.as_view(), name="login"),
     path("api/auth/", include("rest_framework.urls")),
     path("api/auth/token/", TokenObtainView.as_view(), name="token-obtain"),
+    path("api/auth/token/revoke/", TokenRevokeView.as_view(), name="token-revoke"),
+    path(
+        "api/auth/users/<int:pk>/token/revoke/",
+        UserTokenRevokeView.as_view(),
+        name="user-token-revoke",
+    ),
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
-    path("api/docs/", SpectacularSwaggerView.as_view(url_name="schema"), name="docs"),
+    # The split view serves its start-up script as a file, so the CSP needs no inline script.
+    path("api/docs/", SpectacularSwaggerSplitView.as_view(url_name="schema"), name="docs"),
     path("api/", include("shop.intake.urls")),
     path("api/", include("shop.core.urls")),
     path("api/", include("shop.bench.urls")),

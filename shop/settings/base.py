@@ -1,6 +1,9 @@
 """Settings shared by every role; secrets and deployment facts come only from the environment."""
 
+import base64
+import hashlib
 import os
+from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
@@ -46,21 +49,50 @@ INSTALLED_APPS = [
     "django_filters",
     "drf_spectacular",
     "drf_spectacular_sidecar",
+    "axes",
     "shop.core",
     "shop.intake",
     "shop.bench",
     "reports",
 ]
 
+# The header middleware come first, so that they also see the answers that later middleware
+# give on their own (redirects, CSRF refusals, lockouts). Axes comes last, as it asks.
 MIDDLEWARE = [
+    "shop.core.middleware.ContentSecurityPolicyMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "django.middleware.security.SecurityMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
-    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    "axes.middleware.AxesMiddleware",
 ]
+
+# Security headers on every response (HSTS is added by the production settings).
+SECURE_CONTENT_TYPE_NOSNIFF = True
+X_FRAME_OPTIONS = "DENY"
+SECURE_REFERRER_POLICY = "same-origin"
+SECURE_CROSS_ORIGIN_OPENER_POLICY = "same-origin"
+# Content-Security-Policy (shop.core.middleware). Scripts only from our own files (the docs page
+# loads its start-up script as a file), plus the one inline handler of the browsable API's
+# "Log out" link, allowed by its hash alone. Inline styles stay allowed because the admin's
+# change lists and the docs and verification pages carry <style> blocks; styles run no code.
+DRF_LOGOUT_HANDLER = 'document.getElementById("logoutForm").submit()'
+DRF_LOGOUT_HANDLER_HASH = base64.b64encode(hashlib.sha256(DRF_LOGOUT_HANDLER.encode()).digest())
+SECURE_CSP = {
+    "default-src": ["'self'"],
+    "script-src": ["'self'", "'unsafe-hashes'", f"'sha256-{DRF_LOGOUT_HANDLER_HASH.decode()}'"],
+    "style-src": ["'self'", "'unsafe-inline'"],
+    "img-src": ["'self'", "data:"],
+    "font-src": ["'self'"],
+    "connect-src": ["'self'"],
+    "object-src": ["'none'"],
+    "base-uri": ["'none'"],
+    "form-action": ["'self'"],
+    "frame-ancestors": ["'none'"],
+}
 
 ROOT_URLCONF = "shop.urls"
 WSGI_APPLICATION = "shop.wsgi.application"
@@ -95,6 +127,28 @@ if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
 
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
+# django-axes first: it refuses a locked-out sign-in before the password is checked.
+AUTHENTICATION_BACKENDS = [
+    "axes.backends.AxesStandaloneBackend",
+    "django.contrib.auth.backends.ModelBackend",
+]
+# Sign-in lockout (django-axes, counted in the database so every app process agrees): after
+# LOGIN_FAILURE_LIMIT failures for one user name from one address, that pair is refused for
+# LOGIN_LOCKOUT_MINUTES, restarted by each further failure. Session, admin and token sign-in.
+AXES_FAILURE_LIMIT = int(os.environ.get("LOGIN_FAILURE_LIMIT", "5"))
+AXES_COOLOFF_TIME = timedelta(minutes=int(os.environ.get("LOGIN_LOCKOUT_MINUTES", "15")))
+# The pair, not the address alone: behind one proxy or shop router every caller shares an
+# address, and one person's typos must not lock out the whole shop.
+AXES_LOCKOUT_PARAMETERS = [["username", "ip_address"]]
+AXES_RESET_ON_SUCCESS = True
+AXES_CLIENT_IP_CALLABLE = "shop.core.signin.client_address"
+AXES_LOCKOUT_CALLABLE = "shop.core.signin.lockout_response"
+# API tokens stop working this many hours after they were issued.
+TOKEN_TTL_HOURS = float(os.environ.get("TOKEN_TTL_HOURS", "12"))
+# How many proxies in front of the app append to X-Forwarded-For (1 behind a TLS proxy). The
+# throttles and the lockout take the caller's address from there; 0 trusts only the socket.
+TRUSTED_PROXY_COUNT = int(os.environ.get("TRUSTED_PROXY_COUNT", "0"))
+
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
     {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator"},
@@ -112,22 +166,34 @@ STATIC_ROOT = Path(os.environ.get("STATIC_ROOT", DATA_DIR / "static"))
 MEDIA_URL = "media/"
 MEDIA_ROOT = Path(os.environ.get("MEDIA_ROOT", DATA_DIR / "media"))
 
-STORAGES = {
-    "default": {"BACKEND": "django.core.files.storage.FileSystemStorage"},
-    "staticfiles": {"BACKEND": "django.contrib.staticfiles.storage.StaticFilesStorage"},
-}
-if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
-    # S3-compatible object storage for evidence and certificates (django-storages, `s3` extra).
-    STORAGES["default"] = {
+
+def object_storage(bucket_name: str, endpoint_url: str | None = None) -> dict:
+    """The STORAGES entry for S3-compatible object storage (django-storages, `s3` extra).
+
+    Never overwrite: saving to a key that exists stores under a new key, so an evidence file or
+    an issued certificate can never be replaced. Objects stay private; reads go through the app.
+    Credentials come from the usual AWS_ACCESS_KEY_ID / AWS_SECRET_ACCESS_KEY variables.
+    """
+    return {
         "BACKEND": "storages.backends.s3.S3Storage",
         "OPTIONS": {
-            "bucket_name": os.environ["AWS_STORAGE_BUCKET_NAME"],
-            "endpoint_url": os.environ.get("AWS_S3_ENDPOINT_URL") or None,
+            "bucket_name": bucket_name,
+            "endpoint_url": endpoint_url or None,
             "file_overwrite": False,
             "default_acl": None,
             "querystring_auth": True,
         },
     }
+
+
+STORAGES = {
+    "default": {"BACKEND": "django.core.files.storage.FileSystemStorage"},
+    "staticfiles": {"BACKEND": "django.contrib.staticfiles.storage.StaticFilesStorage"},
+}
+if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
+    STORAGES["default"] = object_storage(
+        os.environ["AWS_STORAGE_BUCKET_NAME"], os.environ.get("AWS_S3_ENDPOINT_URL")
+    )
 
 # Largest evidence upload accepted, in bytes.
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
@@ -139,7 +205,7 @@ FILE_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [
         # Token first, so an anonymous caller gets 401 with a WWW-Authenticate challenge.
-        "rest_framework.authentication.TokenAuthentication",
+        "shop.core.authentication.ExpiringTokenAuthentication",
         "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
@@ -154,7 +220,13 @@ REST_FRAMEWORK = {
     "EXCEPTION_HANDLER": "shop.core.errors.shop_exception_handler",
     "NON_FIELD_ERRORS_KEY": "non_field_errors",
     "COERCE_DECIMAL_TO_STRING": False,
-    "DEFAULT_THROTTLE_RATES": {"verify": os.environ.get("VERIFY_THROTTLE_RATE", "60/minute")},
+    # Per-address limits on the anonymous endpoints.
+    "DEFAULT_THROTTLE_RATES": {
+        "verify": os.environ.get("VERIFY_THROTTLE_RATE", "60/minute"),
+        "token": os.environ.get("TOKEN_THROTTLE_RATE", "10/minute"),
+        "login": os.environ.get("LOGIN_THROTTLE_RATE", "10/minute"),
+    },
+    "NUM_PROXIES": TRUSTED_PROXY_COUNT,
 }
 
 SPECTACULAR_SETTINGS = {

@@ -1,0 +1,62 @@
+"""API tokens that expire after TOKEN_TTL_HOURS and can be revoked."""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+
+from django.conf import settings
+from django.contrib.auth import get_user_model
+from django.contrib.auth.signals import user_logged_in
+from django.db import transaction
+from django.utils import timezone
+from rest_framework import exceptions
+from rest_framework.authentication import TokenAuthentication
+
+# DRF loads this module while the apps are still loading (through the authentication setting),
+# so the Token model is imported inside the functions, as DRF's own TokenAuthentication does.
+
+
+def token_expires_at(token) -> datetime:
+    """When a token stops working: TOKEN_TTL_HOURS after it was issued."""
+    return token.created + timedelta(hours=settings.TOKEN_TTL_HOURS)
+
+
+class ExpiringTokenAuthentication(TokenAuthentication):
+    """Token authentication that refuses a token older than TOKEN_TTL_HOURS."""
+
+    def authenticate_credentials(self, key):
+        user, token = super().authenticate_credentials(key)
+        expired_at = token_expires_at(token)
+        if expired_at <= timezone.now():
+            raise exceptions.AuthenticationFailed(
+                f"This token expired at {expired_at:%Y-%m-%d %H:%M} UTC. Sign in again at "
+                "/api/auth/token/ for a new one.",
+                code="token_expired",
+            )
+        return user, token
+
+
+def token_issue(*, user, request):
+    """Replace the user's token with a new one, whose key only this caller ever sees.
+
+    One token per user: signing in again ends the previous token, so a key is never shown
+    twice. The sign-in is recorded like a session sign-in (last login, lockout counter reset).
+    """
+    from rest_framework.authtoken.models import Token
+
+    with transaction.atomic():
+        # Lock the user row so that two sign-ins at once cannot both create a token.
+        get_user_model().objects.select_for_update().filter(pk=user.pk).exists()
+        Token.objects.filter(user=user).delete()
+        token = Token.objects.create(user=user)
+    user_logged_in.send(sender=user.__class__, request=request, user=user)
+    return token
+
+
+def token_revoke(*, user) -> int:
+    """End every API token of `user`; return how many there were."""
+    from rest_framework.authtoken.models import Token
+
+    with transaction.atomic():
+        revoked, _ = Token.objects.filter(user=user).delete()
+    return revoked
