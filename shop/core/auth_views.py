@@ -91,7 +91,7 @@ class TokenRevokeView(APIView):
 
     @extend_schema(request=None, responses={200: RevokedSerializer, **ERROR_RESPONSES})
     def post(self, request, *args, **kwargs):
-        return Response({"revoked": token_revoke(user=request.user)})
+        return Response({"revoked": token_revoke(user=request.user, actor=request.user)})
 
 
 class UserTokenRevokeView(APIView):
@@ -104,4 +104,4 @@ class UserTokenRevokeView(APIView):
     @extend_schema(request=None, responses={200: RevokedSerializer, **ERROR_RESPONSES})
     def post(self, request, pk: int, *args, **kwargs):
         user = get_object_or_404(get_user_model(), pk=pk)
-        return Response({"revoked": token_revoke(user=user)})
+        return Response({"revoked": token_revoke(user=user, actor=request.user)})

@@ -12,6 +12,8 @@ from django.utils import timezone
 from rest_framework import exceptions
 from rest_framework.authentication import TokenAuthentication
 
+from .audit import audit_record
+
 # DRF loads this module while the apps are still loading (through the authentication setting),
 # so the Token model is imported inside the functions, as DRF's own TokenAuthentication does.
 
@@ -53,10 +55,13 @@ def token_issue(*, user, request):
     return token
 
 
-def token_revoke(*, user) -> int:
-    """End every API token of `user`; return how many there were."""
+def token_revoke(*, user, actor) -> int:
+    """End every API token of `user` (recorded as done by `actor`); return how many."""
     from rest_framework.authtoken.models import Token
 
     with transaction.atomic():
         revoked, _ = Token.objects.filter(user=user).delete()
+        audit_record(
+            actor=actor, action="token.revoke", instance=user, changes={"revoked": revoked}
+        )
     return revoked

@@ -125,6 +125,7 @@ def shop_exception_handler(exc, context):
         return Response(
             error_body(exc.code, exc.message, fields, field=exc.field, **exc.extra),
             status=exc.status_code,
+            headers=getattr(exc, "headers", None),
         )
     if isinstance(exc, DjangoValidationError):
         if hasattr(exc, "error_dict"):
