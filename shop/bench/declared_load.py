@@ -7,8 +7,9 @@ A document looks like::
 
 Each kind names a parameter serializer and a builder of the physics load model (from the
 parameters and the bench configuration). Kinds: ``resistive``, ``heater``, ``transformer``,
-``constant_power``, ``composite`` (members of the first three) and ``nameplate`` (a model
-built from the unit's nameplate, construction and the test's configuration). A parameter the
+``rectifier``, ``constant_power``, ``composite`` (members of the first four, one rectifier at
+most) and ``nameplate`` (a model built from the unit's nameplate, construction and the
+test's configuration). A parameter the
 serializer accepts but the physics refuses (a load above its transformer's rating) is turned
 into a validation error on that parameter, so every bad document answers 400 by field.
 """
@@ -27,6 +28,7 @@ from shop.physics.heater import HeaterLoad
 from shop.physics.lamp import FILAMENT_TEMPERATURE_RANGE
 from shop.physics.loads import ResistiveLoad
 from shop.physics.nameplate import CATEGORIES, CONSTRUCTIONS, unit_load_from_nameplate
+from shop.physics.rectifier import RECTIFIERS, TOPOLOGIES, RectifierLoad
 from shop.physics.switch_mode import ConstantPowerLoad
 from shop.physics.transformer import CORES, TransformerLoad
 
@@ -137,6 +139,44 @@ class ConstantPowerParameters(serializers.Serializer):
         return attrs
 
 
+class RectifierParameters(serializers.Serializer):
+    """A rectifier with a reservoir, fed directly or through a transformer."""
+
+    voltage = serializers.FloatField(help_text="Mains voltage of the unit [V].", **VOLTAGE_LIMITS)
+    topology = serializers.ChoiceField(choices=TOPOLOGIES, required=False, default="bridge")
+    capacitance = serializers.FloatField(
+        min_value=1e-7, max_value=1.0, help_text="Reservoir capacitance [F] (each of a doubler's)."
+    )
+    dc_resistance = serializers.FloatField(
+        required=False, min_value=0.1, max_value=1e7, help_text="DC load as a resistance [ohm]."
+    )
+    dc_current = serializers.FloatField(
+        required=False, min_value=0.0, max_value=50.0, help_text="DC load as a current [A]."
+    )
+    turns_ratio = serializers.FloatField(
+        required=False,
+        allow_null=True,
+        default=None,
+        min_value=0.01,
+        max_value=100.0,
+        help_text="Secondary over primary volts; null when fed straight from the mains.",
+    )
+    winding_resistance = serializers.FloatField(required=False, min_value=0.0, max_value=1e5)
+    rectifier = serializers.ChoiceField(choices=RECTIFIERS, required=False, default="silicon")
+    choke_inductance = serializers.FloatField(required=False, min_value=1e-3, max_value=100.0)
+    choke_resistance = serializers.FloatField(required=False, min_value=0.0, max_value=1e4)
+    frequency = serializers.ChoiceField(
+        choices=[50, 60], required=False, default=60, help_text="Mains its draw is quoted on."
+    )
+
+    def validate(self, attrs):
+        given = [name for name in ("dc_resistance", "dc_current") if name in attrs]
+        if len(given) != 1:
+            message = "Give exactly one of dc_resistance and dc_current."
+            raise serializers.ValidationError({"dc_resistance": message, "dc_current": message})
+        return attrs
+
+
 class NameplateParameters(serializers.Serializer):
     """The unit's nameplate and construction; the model follows with its assumptions."""
 
@@ -155,7 +195,7 @@ class NameplateParameters(serializers.Serializer):
 class MemberSerializer(serializers.Serializer):
     """One part of a composite unit."""
 
-    kind = serializers.ChoiceField(choices=["resistive", "heater", "transformer"])
+    kind = serializers.ChoiceField(choices=["resistive", "heater", "transformer", "rectifier"])
     parameters = serializers.DictField()
 
     def validate(self, attrs):
@@ -227,6 +267,29 @@ def build_composite(parameters: dict, configuration: dict) -> CompositeLoad:
     )
 
 
+def build_rectifier(parameters: dict, configuration: dict) -> RectifierLoad:
+    options = {
+        name: parameters[name]
+        for name in (
+            "dc_resistance",
+            "dc_current",
+            "winding_resistance",
+            "choke_inductance",
+            "choke_resistance",
+        )
+        if name in parameters
+    }
+    return RectifierLoad(
+        parameters["voltage"],
+        parameters["capacitance"],
+        topology=parameters.get("topology", "bridge"),
+        turns_ratio=parameters.get("turns_ratio"),
+        rectifier=parameters.get("rectifier", "silicon"),
+        rated_frequency=float(parameters.get("frequency", 60)),
+        **options,
+    )
+
+
 def build_nameplate(parameters: dict, configuration: dict):
     return unit_load_from_nameplate(
         rated_voltage=parameters["voltage"],
@@ -266,6 +329,11 @@ LOAD_KINDS: dict[str, LoadKind] = {
         ConstantPowerParameters,
         build_constant_power,
         "a switch-mode input that holds its power once started",
+    ),
+    "rectifier": LoadKind(
+        RectifierParameters,
+        build_rectifier,
+        "a rectifier charging a reservoir capacitor, solved in the time domain",
     ),
     "composite": LoadKind(CompositeParameters, build_composite, "parts on one supply"),
     "nameplate": LoadKind(

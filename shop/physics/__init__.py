@@ -5,8 +5,10 @@ endpoint and the tests all use the same library.
 """
 
 from shop.physics.advice import LampAdvice, advise_lamp, lamp_label
-from shop.physics.circuit import SeriesResult, solve_bypassed, solve_series
+from shop.physics.circuit import OPERATING_STATES, SeriesResult, solve_bypassed, solve_series
+from shop.physics.composite import CompositeLoad
 from shop.physics.glow import DRAPER_POINT, GLOW_CLASSES, glow_class, glow_colour, luminance
+from shop.physics.heater import HeaterLoad
 from shop.physics.judgement import (
     BEHAVIOURS,
     OUTCOMES,
@@ -19,17 +21,25 @@ from shop.physics.judgement import (
 from shop.physics.lamp import Lamp, LampBank, LampCurve, LampFit
 from shop.physics.loads import Load, ResistiveLoad
 from shop.physics.materials import data_fingerprint
+from shop.physics.nameplate import unit_load_from_nameplate
+from shop.physics.rectifier import RectifierLoad
+from shop.physics.switch_mode import ConstantPowerLoad
+from shop.physics.transformer import TransformerLoad
 
 # The version of the physics: bump it when a prediction for the same input changes, so that
 # stored verdicts say which physics judged them (with data_fingerprint() for the data files).
-PHYSICS_VERSION = "1.0.0"
+PHYSICS_VERSION = "1.1.0"
 
 __all__ = [
     "BEHAVIOURS",
     "DRAPER_POINT",
     "GLOW_CLASSES",
+    "OPERATING_STATES",
     "OUTCOMES",
     "PHYSICS_VERSION",
+    "CompositeLoad",
+    "ConstantPowerLoad",
+    "HeaterLoad",
     "Lamp",
     "LampAdvice",
     "LampBank",
@@ -39,8 +49,10 @@ __all__ = [
     "Reading",
     "ReadingJudgement",
     "Reason",
+    "RectifierLoad",
     "ResistiveLoad",
     "SeriesResult",
+    "TransformerLoad",
     "Verdict",
     "advise_lamp",
     "data_fingerprint",
@@ -51,4 +63,5 @@ __all__ = [
     "luminance",
     "solve_bypassed",
     "solve_series",
+    "unit_load_from_nameplate",
 ]

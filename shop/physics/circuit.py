@@ -7,6 +7,7 @@ import numpy as np
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.loads import Load
 from shop.physics.roots import bracketed_root
+from shop.physics.waveform import periodic_steady_state
 
 DEFAULT_FREQUENCY = 60.0  # [Hz]
 
@@ -26,6 +27,8 @@ STEADY = "steady"
 OFF = "off"
 NO_OPERATING_POINT = "no_operating_point"
 OPERATING_STATES = (STEADY, OFF, NO_OPERATING_POINT)
+# Rectified mean of a sine over its RMS, 2 sqrt(2) / pi.
+SINE_AVERAGE_PER_RMS = 2.0 * np.sqrt(2.0) / np.pi
 
 
 @dataclass(frozen=True)
@@ -60,6 +63,15 @@ class SeriesResult:
         One of ``OPERATING_STATES`` (str) per point. Where it is ``no_operating_point``
         every number above is NaN: the unit cannot draw its power through the lamp and
         will cycle or not start.
+    peak_current : numpy.ndarray
+        Largest instantaneous current [A]; ``sqrt(2)`` times the RMS for a phasor unit.
+    average_current, average_load_voltage : numpy.ndarray
+        Means of the rectified current [A] and unit voltage [V]: what an average-responding
+        meter senses (it shows 1.111 times that, the sine's form factor).
+    dc_voltage, ripple_voltage : numpy.ndarray
+        A rectifier's mean output voltage and its peak-to-peak ripple [V]; NaN otherwise.
+    conduction_angle : numpy.ndarray
+        How long a rectifier's diodes conduct in each pulse [degrees]; NaN otherwise.
     """
 
     source_voltage: np.ndarray
@@ -71,6 +83,12 @@ class SeriesResult:
     filament_temperature: np.ndarray
     glow: np.ndarray
     state: np.ndarray = None
+    peak_current: np.ndarray = None
+    average_current: np.ndarray = None
+    average_load_voltage: np.ndarray = None
+    dc_voltage: np.ndarray = None
+    ripple_voltage: np.ndarray = None
+    conduction_angle: np.ndarray = None
 
     @property
     def operating(self):
@@ -369,9 +387,45 @@ def _operating_point(lamp, load, target, source_resistance, frequency, bypassed)
     return lamp_voltage, current, open_, state
 
 
-def _result(lamp, load, target, lamp_voltage, current, frequency, open_, state):
+def _solve(lamp, load, target, source_resistance, frequency, bypassed):
+    """Every figure of the operating point as a dict of arrays, phasor or time domain."""
+    if getattr(load, "waveform", False):
+        figures = periodic_steady_state(
+            None if bypassed else lamp, load, target, source_resistance, frequency
+        )
+        solution = dict(vars(figures))
+        solution["state"] = np.full(
+            figures.current.shape, STEADY, dtype=f"<U{max(map(len, OPERATING_STATES))}"
+        )
+        return solution
+    lamp_voltage, current, open_, state = _operating_point(
+        lamp, load, target, source_resistance, frequency, bypassed
+    )
+    load_voltage, load_power = _unit_side(
+        load, current, np.broadcast_to(target, current.shape), frequency, open_
+    )
+    nan = np.full(current.shape, np.nan)
+    return {
+        "lamp_voltage": lamp_voltage,
+        "current": current,
+        "load_voltage": load_voltage,
+        "load_power": load_power,
+        "state": state,
+        # Phasors are sinusoids: crest sqrt(2) and rectified mean 2 sqrt(2) / pi of the RMS.
+        "peak_current": np.sqrt(2.0) * current,
+        "average_current": SINE_AVERAGE_PER_RMS * current,
+        "average_load_voltage": SINE_AVERAGE_PER_RMS * load_voltage,
+        "dc_voltage": nan,
+        "ripple_voltage": nan,
+        "conduction_angle": nan,
+    }
+
+
+def _result(lamp, target, solution):
+    current = solution["current"]
     target = np.broadcast_to(target, current.shape).copy()
-    load_voltage, load_power = _unit_side(load, current, target, frequency, open_)
+    lamp_voltage = solution["lamp_voltage"]
+    state = solution["state"]
     operating = state != NO_OPERATING_POINT
     temperature = np.full(current.shape, np.nan)
     glow = np.full(current.shape, "", dtype=f"<U{max(map(len, GLOW_CLASSES))}")
@@ -380,14 +434,20 @@ def _result(lamp, load, target, lamp_voltage, current, frequency, open_, state):
         glow[operating] = lamp.glow(lamp_voltage[operating])
     return SeriesResult(
         source_voltage=target,
-        load_voltage=load_voltage,
+        load_voltage=solution["load_voltage"],
         current=current,
         lamp_voltage=lamp_voltage,
         lamp_power=lamp_voltage * current,
-        load_power=load_power,
+        load_power=solution["load_power"],
         filament_temperature=temperature,
         glow=glow,
         state=state,
+        peak_current=solution["peak_current"],
+        average_current=solution["average_current"],
+        average_load_voltage=solution["average_load_voltage"],
+        dc_voltage=solution["dc_voltage"],
+        ripple_voltage=solution["ripple_voltage"],
+        conduction_angle=solution["conduction_angle"],
     )
 
 
@@ -453,8 +513,7 @@ def solve_series(lamp, load, source_voltage, source_resistance=0.0, frequency=DE
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    solution = _operating_point(lamp, load, target, source_resistance, frequency, False)
-    return _result(lamp, load, target, *solution[:2], frequency, *solution[2:])
+    return _result(lamp, target, _solve(lamp, load, target, source_resistance, frequency, False))
 
 
 def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=DEFAULT_FREQUENCY):
@@ -488,8 +547,7 @@ def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    solution = _operating_point(lamp, load, target, source_resistance, frequency, True)
-    return _result(lamp, load, target, *solution[:2], frequency, *solution[2:])
+    return _result(lamp, target, _solve(lamp, load, target, source_resistance, frequency, True))
 
 
 def unit_operating_point(
@@ -532,10 +590,5 @@ def unit_operating_point(
     target, source_resistance, frequency = _checked(
         load, source_voltage, source_resistance, frequency
     )
-    _, current, open_, _ = _operating_point(
-        lamp, load, target, source_resistance, frequency, lamp_bypassed
-    )
-    load_voltage, _ = _unit_side(
-        load, current, np.broadcast_to(target, current.shape), frequency, open_
-    )
-    return load_voltage, current
+    solution = _solve(lamp, load, target, source_resistance, frequency, lamp_bypassed)
+    return solution["load_voltage"], solution["current"]

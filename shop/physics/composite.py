@@ -26,8 +26,10 @@ class CompositeLoad(ScalableLoad):
     members : sequence of loads
         Each a load with one draw (scalar parameters) and an ``admittance(voltage,
         frequency)`` (``ResistiveLoad``, ``HeaterLoad``, ``TransformerLoad`` or another
-        ``CompositeLoad``), all rated at the same voltage. A constant-power input is
-        refused: it has no unique draw at a given current (declare it alone).
+        ``CompositeLoad``), or one ``RectifierLoad``, all rated at the same voltage. With a
+        rectifier the composite is solved in the time domain (:mod:`shop.physics.waveform`).
+        A constant-power input is refused: it has no unique draw at a given current
+        (declare it alone).
 
     Notes
     -----
@@ -55,13 +57,17 @@ class CompositeLoad(ScalableLoad):
                     f"members[{position}] is a constant-power input: declare it alone, it has "
                     "no unique draw at a given current inside a composite"
                 )
-            if not hasattr(member, "admittance") or not hasattr(member, "rated_voltage"):
+            if not hasattr(member, "rated_voltage") or not (
+                hasattr(member, "admittance") or getattr(member, "waveform", False)
+            ):
                 raise ValueError(
                     f"members[{position}] must be a load with admittance() and rated_voltage "
                     f"(got {type(member).__name__})"
                 )
             if np.ndim(member.rated_power) != 0:
                 raise ValueError(f"members[{position}] must be one load, not an array of them")
+        if sum(bool(getattr(member, "waveform", False)) for member in members) > 1:
+            raise ValueError("members may hold one rectifier at most")
         voltages = np.array([float(member.rated_voltage) for member in members])
         if np.ptp(voltages) > RATED_VOLTAGE_AGREEMENT * voltages.max():
             raise ValueError(
@@ -72,7 +78,17 @@ class CompositeLoad(ScalableLoad):
         self.rated_voltage = float(voltages.max())
         self._tables = {}
 
+    @property
+    def waveform(self):
+        """Whether a member rectifies, so that the unit is solved in the time domain."""
+        return any(getattr(member, "waveform", False) for member in self.members)
+
     def _admittance_of_one(self, voltage, frequency):
+        if self.waveform:
+            raise ValueError(
+                "a unit with a rectifier has no admittance: it draws its current in peaks and "
+                "is solved in the time domain (shop.physics.waveform)"
+            )
         voltage = np.asarray(voltage, dtype=float)
         return sum(member.admittance(voltage, frequency) for member in self.members)
 

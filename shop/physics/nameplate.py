@@ -1,8 +1,13 @@
 """A reasonable unit model from its nameplate, construction and bench configuration."""
 
+from functools import lru_cache
+
+import numpy as np
+
 from shop.physics.composite import CompositeLoad
 from shop.physics.heater import HeaterLoad
 from shop.physics.loads import ResistiveLoad, check_scalar
+from shop.physics.rectifier import RectifierLoad
 from shop.physics.switch_mode import ConstantPowerLoad
 from shop.physics.transformer import TransformerLoad
 
@@ -51,6 +56,28 @@ SWITCH_MODE_MIN_IDLE = 1.0  # [W]
 # Most switch-mode gear has a universal input, rated 100-240 V (from memory); it starts
 # relative to the lowest voltage on that range.
 UNIVERSAL_INPUT_LOWEST = 100.0  # [V]
+# DC supplies as built (from memory, typical figures): a valve set's HT rail and reservoir,
+# a series-string set's half-wave rail straight off the mains (a little under the crest),
+# and a solid-state unit's rail and reservoir.
+VALVE_DC_VOLTAGE = {"amplifier": 350.0, "other": 250.0}  # [V]
+VALVE_RESERVOIR = 40e-6  # [F]
+SERIES_STRING_RESERVOIR = 50e-6  # [F]
+SOLID_STATE_DC_VOLTAGE = {"amplifier": 40.0, "other": 15.0}  # [V]
+SOLID_STATE_RESERVOIR = 4700e-6  # [F]
+# A supply's DC load is tuned until it draws its share of the nameplate to this fraction.
+SUPPLY_POWER_AGREEMENT = 0.02
+SUPPLY_TUNING_STEPS = 8
+# A capacitor input draws its charge in peaks of a few times its DC current (from memory).
+PEAK_PER_DC = 3.0
+# Its draw is quoted on the mains of its voltage: 50 Hz above 150 V, 60 Hz below (an
+# assumption where the nameplate does not say).
+SUPPLY_FREQUENCY_SPLIT = 150.0  # [V]
+SUPPLY_FREQUENCY = {True: 50.0, False: 60.0}  # [Hz] keyed by "above the split"
+RECTIFIER_WORDS = {
+    "centre_tap": "full-wave centre-tap",
+    "half_wave": "half-wave",
+    "bridge": "bridge",
+}
 
 
 def _check_choice(value, name, choices):
@@ -73,8 +100,75 @@ def _is_valve(valve, year, assumptions):
     return guess
 
 
-def _valve_set(voltage, power, series_string, rated_frequency, configuration, assumptions):
-    """Members of a valve set: heaters, a DC load for the rectifier, and the transformer."""
+def _kind(category):
+    return "amplifier" if category in AMPLIFIER_CATEGORIES else "other"
+
+
+def _supply(
+    voltage, dc_power, dc_voltage, reservoir, topology, rectifier, assumptions, *, direct=False
+):
+    """A rectifier giving about ``dc_voltage`` and drawing ``dc_power``, with its assumption."""
+    assumptions.append(
+        f"A {rectifier} {RECTIFIER_WORDS[topology]} rectifier "
+        f"{'straight off the mains' if direct else 'on its own winding'}, "
+        f"{1e6 * reservoir:.3g} uF reservoir, about {dc_voltage:.3g} V DC, its load set so "
+        f"that it draws {dc_power:.3g} W (typical figures, from memory)."
+    )
+    return _tuned_supply(voltage, dc_power, dc_voltage, reservoir, topology, rectifier, direct)
+
+
+@lru_cache(maxsize=128)
+def _tuned_supply(voltage, dc_power, dc_voltage, reservoir, topology, rectifier, direct):
+    """The rectifier whose DC load makes it draw ``dc_power`` from the mains (cached).
+
+    The winding is chosen so that the crest, less the drops of the path at the peaks of a
+    capacitor input (``PEAK_PER_DC`` times the DC current), gives ``dc_voltage``; the
+    draw is then close to inverse in the load resistance, so a few secant steps in their
+    logarithms bring it within ``SUPPLY_POWER_AGREEMENT``.
+    """
+    frequency = SUPPLY_FREQUENCY[voltage > SUPPLY_FREQUENCY_SPLIT]
+    probe = RectifierLoad(
+        voltage,
+        reservoir,
+        topology=topology,
+        rectifier=rectifier,
+        dc_resistance=dc_voltage**2 / dc_power,
+        turns_ratio=None if direct else 1.0,
+    )
+    drops = probe.path_drop + PEAK_PER_DC * (dc_power / dc_voltage) * probe.diode_resistance
+    turns = None if direct else (dc_voltage + drops) / (np.sqrt(2.0) * voltage)
+
+    def build(resistance):
+        return RectifierLoad(
+            voltage,
+            reservoir,
+            topology=topology,
+            rectifier=rectifier,
+            dc_resistance=resistance,
+            turns_ratio=turns,
+            rated_frequency=frequency,
+        )
+
+    resistance = dc_voltage**2 / dc_power
+    supply = build(resistance)
+    slope = -1.0  # d log(draw) / d log(resistance), exact for a plain resistance
+    previous = None
+    for _ in range(SUPPLY_TUNING_STEPS):
+        drawn = np.log(float(supply.rated_power))
+        if abs(drawn - np.log(dc_power)) <= SUPPLY_POWER_AGREEMENT:
+            break
+        if previous is not None and drawn != previous[1]:
+            slope = (drawn - previous[1]) / (np.log(resistance) - previous[0])
+        previous = (np.log(resistance), drawn)
+        resistance *= np.exp((np.log(dc_power) - drawn) / slope)
+        supply = build(resistance)
+    return supply
+
+
+def _valve_set(
+    voltage, power, category, series_string, rated_frequency, configuration, assumptions
+):
+    """Members of a valve set: heaters, the rectifier and its DC load, and the transformer."""
     heater_share = HEATER_SHARE["transformerless" if series_string else "transformer"]
     heater_power = heater_share * power
     dc_power = (1.0 - heater_share) * power
@@ -92,9 +186,25 @@ def _valve_set(voltage, power, series_string, rated_frequency, configuration, as
             f"({dc_power:.3g} W)."
         )
     members = [HeaterLoad(voltage, heater_power)]
-    if dc_power > 0:
-        members.append(ResistiveLoad.from_rating(voltage, dc_power))
-        assumptions.append("The rectifier's DC load is taken as a resistance on the mains.")
+    if dc_power > 0 and series_string:
+        rail = 0.9 * np.sqrt(2.0) * voltage
+        members.append(
+            _supply(
+                voltage,
+                dc_power,
+                rail,
+                SERIES_STRING_RESERVOIR,
+                "half_wave",
+                "valve",
+                assumptions,
+                direct=True,
+            )
+        )
+    elif dc_power > 0:
+        rail = VALVE_DC_VOLTAGE[_kind(category)]
+        members.append(
+            _supply(voltage, dc_power, rail, VALVE_RESERVOIR, "centre_tap", "valve", assumptions)
+        )
     if not series_string:
         members.append(
             TransformerLoad(voltage, VA_PER_WATT * power, rated_frequency=rated_frequency)
@@ -206,16 +316,24 @@ def unit_load_from_nameplate(
         if category in AMPLIFIER_CATEGORIES and configuration["dummy_load_on_output"]:
             assumptions.append("Dummy load on the output, no signal: the amplifier idles.")
         members = _valve_set(
-            voltage, power, series_string, rated_frequency, configuration, assumptions
+            voltage, power, category, series_string, rated_frequency, configuration, assumptions
         )
     else:
-        share = SOLID_STATE_IDLE_SHARE["amplifier" if category in AMPLIFIER_CATEGORIES else "other"]
+        share = SOLID_STATE_IDLE_SHARE[_kind(category)]
         idle = share * power
         assumptions.append(
-            f"Solid state: draws {100 * share:.0f} % of the nameplate ({idle:.3g} W) on the "
-            "bench, as a resistance."
+            f"Solid state: draws {100 * share:.0f} % of the nameplate ({idle:.3g} W) on the bench."
         )
-        members = [ResistiveLoad.from_rating(voltage, idle)]
+        if series_string:
+            members = [ResistiveLoad.from_rating(voltage, idle)]
+            assumptions.append("Transformerless solid state: taken as a resistance.")
+        else:
+            rail = SOLID_STATE_DC_VOLTAGE[_kind(category)]
+            members = [
+                _supply(
+                    voltage, idle, rail, SOLID_STATE_RESERVOIR, "bridge", "silicon", assumptions
+                )
+            ]
         if not series_string:
             members.append(
                 TransformerLoad(voltage, VA_PER_WATT * power, rated_frequency=rated_frequency)

@@ -7,7 +7,11 @@ temperature inside the circuit), from the lamp's own physical model
 readings it did not produce. A unit is a fixed complex impedance, or any load model, whose
 impedance is then asked at each trial current (for a constant-power unit, the root on the
 falling side of the source voltage needed, found after ``minimize_scalar`` locates the
-minimum).
+minimum). A rectifying unit has no impedance and a scalar time-domain reference would take
+seconds a reading, so its readings come from :func:`shop.physics.waveform.periodic_steady_state`
+with the true (perturbed) lamp; that solver is checked on its own against ngspice and
+scipy's ``solve_ivp``, and the judgement still sees readings of a lamp it was not told about,
+with meter noise.
 """
 
 import numpy as np
@@ -16,6 +20,7 @@ from scipy.optimize import brentq, minimize_scalar
 from shop.physics.judgement import Reading
 from shop.physics.lamp import Lamp
 from shop.physics.materials import TABLE_MAX_TEMPERATURE
+from shop.physics.waveform import periodic_steady_state
 
 # Spread of the lamp that "really" sat in the rig, against the nominal lamp the judgement is
 # told about: +/-5 % rated power and +/-100 K rated filament temperature (issue 3).
@@ -125,6 +130,19 @@ def load_operating_point(
     """
     if source_voltage == 0:
         return 0.0, 0.0, 0.0
+    if getattr(load, "waveform", False):
+        figures = periodic_steady_state(
+            None if lamp_bypassed else lamp,
+            load,
+            np.array([source_voltage]),
+            source_resistance,
+            frequency,
+        )
+        return (
+            float(figures.load_voltage[0]),
+            float(figures.current[0]),
+            float(figures.lamp_voltage[0]),
+        )
     if getattr(load, "constant_power", False):
         return _constant_power_point(lamp, load, source_voltage, source_resistance, lamp_bypassed)
     if np.isinf(abs(_load_impedance(load, 0.0, frequency))):

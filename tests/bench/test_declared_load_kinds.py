@@ -23,6 +23,16 @@ DOCUMENTS = {
     "heater": {"parameters": {"voltage": 120, "power": 18}},
     "transformer": {"parameters": {"voltage": 120, "va": 60, "load_power": 30, "frequency": 60}},
     "constant_power": {"parameters": {"power": 10, "voltage": 100}},
+    "rectifier": {
+        "parameters": {
+            "voltage": 120,
+            "topology": "centre_tap",
+            "capacitance": 40e-6,
+            "dc_resistance": 5000,
+            "turns_ratio": 2.2,
+            "rectifier": "valve",
+        }
+    },
     "composite": {
         "parameters": {
             "members": [
@@ -47,6 +57,7 @@ MODELS = {
     "heater": "heater",
     "transformer": "transformer",
     "constant_power": "constant_power",
+    "rectifier": "rectifier",
     "composite": "composite",
     "nameplate": "composite",
 }
@@ -65,7 +76,7 @@ def test_every_issue_kind_is_a_declared_load_kind():
     assert set(DOCUMENTS) | {"resistive"} == set(LOAD_KINDS)
 
 
-@pytest.mark.parametrize("kind", ["heater", "transformer", "composite", "nameplate"])
+@pytest.mark.parametrize("kind", ["heater", "transformer", "rectifier", "composite", "nameplate"])
 def test_prediction_answers_for_each_kind_and_names_its_model(client_for, db, kind):
     response = _predict(client_for, _document(kind))
     assert response.status_code == 200, response.content
@@ -109,6 +120,23 @@ def test_a_nameplate_prediction_lists_its_assumptions(client_for, db):
             "declared_load.parameters.members.0.parameters.power",
         ),
         ("composite", {"members": []}, "declared_load.parameters.members.non_field_errors"),
+        ("rectifier", {"voltage": 120, "capacitance": 1e-4}, "dc_resistance"),
+        (
+            "rectifier",
+            {"voltage": 120, "capacitance": 1e-4, "dc_current": 0.1, "topology": "triple"},
+            "topology",
+        ),
+        (
+            "rectifier",
+            {
+                "voltage": 120,
+                "capacitance": 1e-4,
+                "dc_current": 0.1,
+                "topology": "doubler",
+                "choke_inductance": 5,
+            },
+            "choke_inductance",
+        ),
         (
             "composite",
             {"members": [{"kind": "constant_power", "parameters": {"power": 5, "voltage": 100}}]},

@@ -69,5 +69,21 @@ def test_shop_physics_answers_every_public_name_of_issue_3():
         "data_fingerprint",
     ):
         assert hasattr(shop.physics, name), name
-    assert shop.physics.PHYSICS_VERSION == "1.0.0"
     assert set(shop.physics.__all__) <= set(dir(shop.physics))
+
+
+def test_shop_physics_answers_every_public_name_of_issue_6():
+    for name in (
+        "TransformerLoad",
+        "HeaterLoad",
+        "RectifierLoad",
+        "ConstantPowerLoad",
+        "CompositeLoad",
+        "unit_load_from_nameplate",
+    ):
+        assert hasattr(shop.physics, name), name
+
+
+def test_the_physics_version_says_predictions_changed_with_the_unit_models():
+    # Issue 6 added models and figures; resistive predictions are unchanged, so minor.
+    assert shop.physics.PHYSICS_VERSION == "1.1.0"
