@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import uuid
+
 from django.conf import settings
 from django.core.exceptions import ValidationError
 from django.db import models
@@ -11,6 +13,11 @@ from shop.bench.models import PowerUpTest
 from shop.core.immutability import AppendOnly
 from shop.core.numbering import YearCounter
 from shop.intake.models import Job
+
+
+def certificate_pdf_path(instance: Certificate, filename: str) -> str:
+    """A generated key; storage never overwrites, so an issued PDF cannot be replaced."""
+    return f"certificates/{instance.number}-{uuid.uuid4().hex}.pdf"
 
 
 class CertificateNumberCounter(YearCounter):
@@ -39,6 +46,8 @@ class Certificate(AppendOnly):
     snapshot = models.TextField(help_text="Canonical JSON of everything the certificate states.")
     sha256 = models.CharField(max_length=64)
     verification_code = models.CharField(max_length=40, unique=True)
+    pdf = models.FileField(upload_to=certificate_pdf_path, max_length=255, editable=False)
+    pdf_sha256 = models.CharField(max_length=64, editable=False)
     supersedes = models.OneToOneField(
         "self", on_delete=models.PROTECT, null=True, blank=True, related_name="superseded_by"
     )

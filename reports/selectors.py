@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+import hashlib
 import hmac
 import json
 
 from django.conf import settings
 from django.db.models import QuerySet
 
+from shop.core.errors import Conflict
 from shop.intake.models import Job
 
 from .canonical import sha256_hex
@@ -39,6 +41,41 @@ def snapshot_intact(certificate: Certificate) -> bool:
     return hmac.compare_digest(sha256_hex(certificate.snapshot), certificate.sha256)
 
 
+def _pdf_bytes(certificate: Certificate) -> bytes | None:
+    try:
+        with certificate.pdf.open("rb") as stored:
+            return stored.read()
+    except (FileNotFoundError, ValueError):
+        return None
+
+
+def pdf_intact(certificate: Certificate) -> bool:
+    """Whether the PDF stored at issue is still there, byte for byte."""
+    content = _pdf_bytes(certificate)
+    return content is not None and hmac.compare_digest(
+        hashlib.sha256(content).hexdigest(), certificate.pdf_sha256
+    )
+
+
+def certificate_intact(certificate: Certificate) -> bool:
+    """Snapshot and stored PDF both as issued."""
+    return snapshot_intact(certificate) and pdf_intact(certificate)
+
+
+def stored_pdf(certificate: Certificate) -> bytes:
+    """The PDF as issued; refused if the stored file is missing or was changed."""
+    content = _pdf_bytes(certificate)
+    if content is None or not hmac.compare_digest(
+        hashlib.sha256(content).hexdigest(), certificate.pdf_sha256
+    ):
+        raise Conflict(
+            f"The stored PDF of certificate {certificate.number} is missing or no longer "
+            "matches what was issued. Do not rely on it; a lead should supersede it.",
+            code="pdf_altered",
+        )
+    return content
+
+
 def certificate_for_verification(number: str, code: str) -> Certificate | None:
     """The certificate only when both number and code match; None for any mismatch alike."""
     certificate = certificate_list().filter(number=number).first()
@@ -50,7 +87,7 @@ def certificate_for_verification(number: str, code: str) -> Certificate | None:
 
 def verification_answer(certificate: Certificate) -> dict:
     """What a verifier may learn: status, date, unit, outcome; never the customer's contact."""
-    intact = snapshot_intact(certificate)
+    intact = certificate_intact(certificate)
     answer = {
         "number": certificate.number,
         "intact": intact,

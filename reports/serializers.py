@@ -9,7 +9,7 @@ from shop.bench.models import PowerUpTest
 from shop.intake.models import Job
 
 from .models import Certificate, CertificateEvent, certificate_status
-from .selectors import snapshot_intact, snapshot_of
+from .selectors import certificate_intact, snapshot_of
 
 
 class CertificateEventSerializer(serializers.ModelSerializer):
@@ -69,7 +69,7 @@ class CertificateSerializer(serializers.ModelSerializer):
         return certificate_status(certificate)
 
     def get_intact(self, certificate: Certificate) -> bool:
-        return snapshot_intact(certificate)
+        return certificate_intact(certificate)
 
     @extend_schema_field(serializers.DictField())
     def get_snapshot(self, certificate: Certificate) -> dict:

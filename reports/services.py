@@ -3,8 +3,11 @@
 from __future__ import annotations
 
 import base64
+import hashlib
+import json
 import secrets
 
+from django.core.files.base import ContentFile
 from django.db import transaction
 from django.utils import timezone
 
@@ -25,6 +28,7 @@ from .models import (
     CertificateStatus,
     certificate_status,
 )
+from .pdf import render_certificate
 from .snapshot import build_certificate_snapshot, instruments_used
 
 # A job is certified only once it is on or past the test bench.
@@ -133,6 +137,7 @@ def _issue(
             calibration_override=override,
         )
     )
+    pdf = render_certificate(json.loads(snapshot))
     certificate = Certificate(
         number=number,
         job=job,
@@ -143,8 +148,14 @@ def _issue(
         verification_code=code,
         supersedes=supersedes,
     )
-    certificate.full_clean()
-    certificate.save()
+    certificate.pdf_sha256 = hashlib.sha256(pdf).hexdigest()
+    certificate.pdf.save(f"{number}.pdf", ContentFile(pdf), save=False)
+    try:
+        certificate.full_clean()
+        certificate.save()
+    except Exception:
+        certificate.pdf.storage.delete(certificate.pdf.name)
+        raise
     certificate.tests.set(chosen)
     audit_record(
         actor=issued_by,

@@ -24,7 +24,6 @@ from shop.core.schema import ERROR_RESPONSES, THROTTLED_RESPONSE, WRITE_ERROR_RE
 from shop.intake.models import Job
 
 from . import selectors, services
-from .pdf.certificate import render_certificate
 from .pdf.receipt import render_receipt
 from .serializers import (
     CertificateSerializer,
@@ -89,8 +88,7 @@ class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, views
     def pdf(self, request, pk=None):
         certificate = self.get_object()
         return pdf_response(
-            render_certificate(selectors.snapshot_of(certificate)),
-            f"certificate-{certificate.number}.pdf",
+            selectors.stored_pdf(certificate), f"certificate-{certificate.number}.pdf"
         )
 
     @extend_schema(

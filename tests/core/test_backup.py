@@ -22,6 +22,7 @@ from django.core.management.sql import emit_post_migrate_signal
 from django.db import connection, transaction
 from django.test import override_settings
 
+from reports.models import Certificate
 from shop.core.backup import MANIFEST, SUMS, backed_up_models
 from shop.intake.models import Evidence, Job
 from shop.intake.services import evidence_attach, job_create
@@ -128,8 +129,12 @@ def test_demo_shop_round_trips_every_record_and_file(db, settings, tmp_path):
     evidence = load_demo_shop_with_evidence()
     job_type_id = ContentType.objects.get_for_model(Job).pk
     before, files_before = database_contents(), media_hashes(settings.MEDIA_ROOT)
-    assert files_before == {evidence.file.name: hashlib.sha256(SCOPE_CAPTURE).hexdigest()}
-    assert len(before["core.auditevent"]) > 0 and len(before["reports.certificate"]) == 1
+    certificate = Certificate.objects.get()
+    assert files_before == {
+        evidence.file.name: hashlib.sha256(SCOPE_CAPTURE).hexdigest(),
+        certificate.pdf.name: certificate.pdf_sha256,
+    }
+    assert len(before["core.auditevent"]) > 0
     archive = tmp_path / "shop.zip"
     written = StringIO()
     call_command("backup", output=archive, stdout=written)
@@ -144,9 +149,9 @@ def test_demo_shop_round_trips_every_record_and_file(db, settings, tmp_path):
     assert media_hashes(settings.MEDIA_ROOT) == files_before
     assert LogEntry.objects.get().get_edited_object() == Job.objects.order_by("number").first()
     assert "intake.job: 12 records" in written.getvalue()
-    assert "Media: 1 files, " in written.getvalue()
+    assert "Media: 2 files, " in written.getvalue()
     assert "intake.job: 12 records" in restored.getvalue()
-    assert "Media: 1 files written, 0 already present" in restored.getvalue()
+    assert "Media: 2 files written, 0 already present" in restored.getvalue()
 
 
 def test_new_rows_after_a_restore_take_fresh_ids(db, settings, tmp_path):

@@ -191,3 +191,18 @@ def test_the_receipt_is_a_pdf_with_the_job_and_the_caution(job, client_for):
     assert job.number in text
     assert "controlled conditions" in text
     assert job.unit.serial in text
+
+
+def test_the_issued_pdf_is_stored_once_and_a_changed_file_is_refused(certificate, client_for):
+    lead = client_for("lead")
+    served = lead.get(f"/api/certificates/{certificate.pk}/pdf/").content
+    with certificate.pdf.open("rb") as stored:
+        assert stored.read() == served
+    with open(certificate.pdf.path, "ab") as stored:
+        stored.write(b"% appended later\n")
+    response = lead.get(f"/api/certificates/{certificate.pk}/pdf/")
+    assert response.status_code == 409
+    assert response.json()["error"]["code"] == "pdf_altered"
+    body = client_for(None).get(f"/verify/{certificate.number}/", {
+        "code": certificate.verification_code, "format": "json"}).json()
+    assert body["status"] == "tampered"

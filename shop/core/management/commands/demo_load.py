@@ -12,8 +12,7 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 from django.utils import timezone
 
-from reports.pdf import render_certificate
-from reports.selectors import snapshot_of
+from reports.selectors import stored_pdf
 from reports.services import CERTIFIABLE_STATES, certificate_issue
 from reports.snapshot import verification_url
 from shop.bench.demo import load_demo_bench
@@ -63,7 +62,7 @@ class Command(BaseCommand):
         certificate = certificate_issue(job=job, issued_by=lead)
         SAMPLE_DIR.mkdir(parents=True, exist_ok=True)
         path = SAMPLE_DIR / f"certificate-{certificate.number}.pdf"
-        path.write_bytes(render_certificate(snapshot_of(certificate)))
+        path.write_bytes(stored_pdf(certificate))
         self.stdout.write(f"Sample certificate {certificate.number} for job {job.number}: {path}")
         self.stdout.write(
             f"  verify at {verification_url(certificate.number, certificate.verification_code)}"
