@@ -5,7 +5,14 @@ endpoint and the tests all use the same library.
 """
 
 from shop.physics.advice import LampAdvice, advise_lamp, lamp_label
-from shop.physics.circuit import OPERATING_STATES, SeriesResult, solve_bypassed, solve_series
+from shop.physics.circuit import (
+    METER_RESPONSES,
+    OPERATING_STATES,
+    SeriesResult,
+    meter_readings,
+    solve_bypassed,
+    solve_series,
+)
 from shop.physics.composite import CompositeLoad
 from shop.physics.glow import DRAPER_POINT, GLOW_CLASSES, glow_class, glow_colour, luminance
 from shop.physics.heater import HeaterLoad
@@ -25,6 +32,7 @@ from shop.physics.nameplate import unit_load_from_nameplate
 from shop.physics.rectifier import RectifierLoad
 from shop.physics.switch_mode import ConstantPowerLoad
 from shop.physics.transformer import TransformerLoad
+from shop.physics.transient import SwitchOnTransient, switch_on
 
 # The version of the physics: bump it when a prediction for the same input changes, so that
 # stored verdicts say which physics judged them (with data_fingerprint() for the data files).
@@ -34,6 +42,7 @@ __all__ = [
     "BEHAVIOURS",
     "DRAPER_POINT",
     "GLOW_CLASSES",
+    "METER_RESPONSES",
     "OPERATING_STATES",
     "OUTCOMES",
     "PHYSICS_VERSION",
@@ -52,6 +61,7 @@ __all__ = [
     "RectifierLoad",
     "ResistiveLoad",
     "SeriesResult",
+    "SwitchOnTransient",
     "TransformerLoad",
     "Verdict",
     "advise_lamp",
@@ -61,7 +71,9 @@ __all__ = [
     "judge",
     "lamp_label",
     "luminance",
+    "meter_readings",
     "solve_bypassed",
     "solve_series",
+    "switch_on",
     "unit_load_from_nameplate",
 ]

@@ -27,8 +27,12 @@ STEADY = "steady"
 OFF = "off"
 NO_OPERATING_POINT = "no_operating_point"
 OPERATING_STATES = (STEADY, OFF, NO_OPERATING_POINT)
-# Rectified mean of a sine over its RMS, 2 sqrt(2) / pi.
+# Rectified mean of a sine over its RMS, 2 sqrt(2) / pi. An average-responding meter senses
+# the rectified mean and is calibrated to show a sine's RMS: it multiplies by the inverse.
 SINE_AVERAGE_PER_RMS = 2.0 * np.sqrt(2.0) / np.pi
+TRUE_RMS = "true_rms"
+AVERAGE_RESPONDING = "average_responding"
+METER_RESPONSES = (TRUE_RMS, AVERAGE_RESPONDING)
 
 
 @dataclass(frozen=True)
@@ -548,6 +552,78 @@ def solve_bypassed(lamp, load, source_voltage, source_resistance=0.0, frequency=
         load, source_voltage, source_resistance, frequency
     )
     return _result(lamp, target, _solve(lamp, load, target, source_resistance, frequency, True))
+
+
+def check_response(value, name):
+    """Return a meter response, refusing anything outside ``METER_RESPONSES`` by name."""
+    if value not in METER_RESPONSES:
+        raise ValueError(f"{name} must be one of {', '.join(METER_RESPONSES)} (got {value!r})")
+    return value
+
+
+def meter_view(rms, average, response):
+    """What a meter of that response shows: the RMS, or the rectified mean calibrated on a sine.
+
+    Parameters
+    ----------
+    rms, average : numeric
+        RMS and rectified mean of the quantity [V or A].
+    response : str
+        ``"true_rms"`` or ``"average_responding"``.
+
+    Returns
+    -------
+    numpy.ndarray
+        The reading [V or A]: ``rms``, or ``average / SINE_AVERAGE_PER_RMS`` (the mean times
+        the sine's form factor, 1.1107), which equals the RMS only for a sine.
+    """
+    if response == AVERAGE_RESPONDING:
+        return np.asarray(average, dtype=float) / SINE_AVERAGE_PER_RMS
+    return np.asarray(rms, dtype=float)
+
+
+def meter_readings(
+    lamp,
+    load,
+    source_voltage,
+    source_resistance=0.0,
+    frequency=DEFAULT_FREQUENCY,
+    *,
+    lamp_bypassed=False,
+    voltmeter_response=TRUE_RMS,
+    ammeter_response=TRUE_RMS,
+):
+    """Unit volts and current as meters of the given responses would show them.
+
+    Parameters
+    ----------
+    lamp, load, source_voltage, source_resistance, frequency
+        As :func:`solve_series`.
+    lamp_bypassed : bool, default False
+        Whether the lamp is switched out.
+    voltmeter_response, ammeter_response : str, default "true_rms"
+        ``"true_rms"`` or ``"average_responding"`` (RMS-calibrated on a sine).
+
+    Returns
+    -------
+    load_voltage, current : numpy.ndarray
+        The readings [V, A]; NaN where a constant-power unit has no operating point.
+
+    Notes
+    -----
+    A rectifier's current flows in peaks: an average-responding ammeter reads it well below
+    its RMS (its crest factor is high), and the unit's voltage, flattened at the crests by
+    the lamp's drop, reads a little differently too. Comparing like with like, the
+    judgement predicts the reading of the meter actually used.
+    """
+    target, source_resistance, frequency = _checked(
+        load, source_voltage, source_resistance, frequency
+    )
+    solution = _solve(lamp, load, target, source_resistance, frequency, lamp_bypassed)
+    return (
+        meter_view(solution["load_voltage"], solution["average_load_voltage"], voltmeter_response),
+        meter_view(solution["current"], solution["average_current"], ammeter_response),
+    )
 
 
 def unit_operating_point(

@@ -49,6 +49,15 @@ Reason codes (module constants; each reason carries a sentence with the numbers)
 - ``load_cannot_run`` (inconclusive): at a reading's source voltage a healthy
   unit of the declared constant-power load has no operating point through the
   lamp (it cycles or does not start), so the reading cannot be judged.
+- ``reading_not_settled`` (inconclusive): the reading was taken after switch-on
+  while a healthy unit is still settling (heaters warming), later than the
+  switch-on the judgement follows (``SWITCH_ON_SECONDS``).
+
+Readings that give the seconds since switch-on are judged against the switch-on transient
+(:func:`shop.physics.transient.switch_on` at the reading's source voltage) when a healthy
+unit has not settled by then, and against the steady state otherwise. Unit volts and current
+are predicted as the meters used would show them: a true-RMS meter the RMS, an
+average-responding one the rectified mean times the sine's form factor.
 - ``all_in_band`` (pass).
 """
 
@@ -61,16 +70,20 @@ from shop.physics.circuit import (
     NO_OPERATING_POINT,
     OFF,
     STEADY,
+    TRUE_RMS,
     bracketed_root,
     check_frequency,
     check_load,
+    check_response,
     check_source_resistance,
+    meter_readings,
+    meter_view,
     solve_bypassed,
     solve_series,
-    unit_operating_point,
 )
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.switch_mode import CANNOT_RUN_SENTENCE
+from shop.physics.transient import switch_on
 
 OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
 BEHAVIOURS = ("steady", "flash_then_dims", "cycling")
@@ -127,6 +140,7 @@ SOURCE_NOT_FULL = "source_not_full"
 LAMP_TOO_LARGE = "lamp_too_large"
 BYPASS_WITHOUT_CURRENT = "bypass_without_current"
 LOAD_CANNOT_RUN = "load_cannot_run"
+READING_NOT_SETTLED = "reading_not_settled"
 ALL_IN_BAND = "all_in_band"
 
 # The outcome each reason code leads to; the verdict takes the worst present.
@@ -143,6 +157,7 @@ REASON_OUTCOMES = {
     LAMP_TOO_LARGE: "inconclusive",
     BYPASS_WITHOUT_CURRENT: "inconclusive",
     LOAD_CANNOT_RUN: "inconclusive",
+    READING_NOT_SETTLED: "inconclusive",
     ALL_IN_BAND: "pass",
 }
 OUTCOME_SEVERITY = ("pass", "inconclusive", "marginal", "fail")
@@ -156,6 +171,13 @@ READING_STATUSES = (
     DRAW_NEAR_ZERO,
     LOAD_CANNOT_RUN,
 )
+# The switch-on is followed this long at most when judging a reading taken during it: longer
+# costs seconds of computing per verdict (a valve set's heaters take tens of seconds).
+SWITCH_ON_SECONDS = 1.0  # [s]
+# Draws a reading during the switch-on is placed among (log-spaced multiples of the declared
+# load); fewer and narrower than the steady search, since every one is a transient to follow.
+SWITCH_ON_DRAWS = np.geomspace(0.1, 10.0, 9)
+JUDGED_AGAINST = ("steady_state", "switch_on")
 # A predicted reading whose scale value misses the measured one by more than this after the
 # draw search lies on the edge of the draws that let the unit run: the reading shows more
 # than any running unit of the declared kind can draw.
@@ -298,6 +320,8 @@ class ReadingJudgement:
     may_cycle : bool
         Whether a healthy unit within the band may have no operating point here, so that a
         cycling glow is to be expected.
+    judged_against : str
+        ``"steady_state"``, or ``"switch_on"`` when taken before a healthy unit settles.
     """
 
     index: int
@@ -322,6 +346,7 @@ class ReadingJudgement:
     sensitive: bool
     predicted_state: str = STEADY
     may_cycle: bool = False
+    judged_against: str = "steady_state"
 
 
 @dataclass(frozen=True)
@@ -355,23 +380,23 @@ class _SpreadLamp:
     """The same filament design drawing ``factor`` times the current at every lamp voltage."""
 
     def __init__(self, lamp, factor):
-        self._lamp = lamp
-        self._factor = factor
-        base = lamp.curve()
-        self._curve = base._replace(current=base.current * factor)
+        self.base = lamp
+        self.factor = factor
+        curve = lamp.curve()
+        self._curve = curve._replace(current=curve.current * factor)
         self.max_voltage = lamp.max_voltage
 
     def curve(self):
         return self._curve
 
     def current(self, voltage):
-        return self._factor * self._lamp.current(voltage)
+        return self.factor * self.base.current(voltage)
 
     def filament_temperature(self, voltage):
-        return self._lamp.filament_temperature(voltage)
+        return self.base.filament_temperature(voltage)
 
     def glow(self, voltage):
-        return self._lamp.glow(voltage)
+        return self.base.glow(voltage)
 
 
 def _on_last_axis(values, mask):
@@ -382,7 +407,7 @@ def _on_last_axis(values, mask):
     return values
 
 
-def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
+def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency, responses):
     """Unit volts, current, glow and state for ``load.scaled(factor)``, lamp in or bypassed."""
     shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
     load_voltage = np.empty(shape)
@@ -398,27 +423,33 @@ def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, fr
                 source_resistance,
                 frequency,
             )
-            load_voltage[..., mask] = result.load_voltage
-            current[..., mask] = result.current
+            load_voltage[..., mask] = meter_view(
+                result.load_voltage, result.average_load_voltage, responses[0]
+            )
+            current[..., mask] = meter_view(result.current, result.average_current, responses[1])
             glow[..., mask] = result.glow
             state[..., mask] = result.state
     return load_voltage, current, glow, state
 
 
-def _predict_meters(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency):
+def _predict_meters(
+    lamp, load, factor, source_voltage, bypassed, source_resistance, frequency, responses
+):
     """Unit volts and current for ``load.scaled(factor)``: what the meters read, no glow."""
     shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
     load_voltage = np.empty(shape)
     current = np.empty(shape)
     for mask in (~bypassed, bypassed):
         if mask.any():
-            load_voltage[..., mask], current[..., mask] = unit_operating_point(
+            load_voltage[..., mask], current[..., mask] = meter_readings(
                 lamp,
                 load.scaled(_on_last_axis(factor, mask)),
                 source_voltage[mask],
                 source_resistance,
                 frequency,
                 lamp_bypassed=bool(mask is bypassed),
+                voltmeter_response=responses[0],
+                ammeter_response=responses[1],
             )
     return load_voltage, current
 
@@ -452,6 +483,7 @@ def _infer_draw(
     grid_current,
     source_resistance,
     frequency,
+    responses,
 ):
     """The multiple of the declared load that reproduces each reading (vectorised).
 
@@ -494,7 +526,14 @@ def _infer_draw(
 
     def residual(log_draw):
         load_voltage, current = _predict_meters(
-            lamp, load, np.exp(log_draw), source_voltage, bypassed, source_resistance, frequency
+            lamp,
+            load,
+            np.exp(log_draw),
+            source_voltage,
+            bypassed,
+            source_resistance,
+            frequency,
+            responses,
         )
         scale = _draw_scale(load_voltage, current, source_voltage, by_current)
         scale = np.where(np.isnan(load_voltage), np.inf, scale)
@@ -514,6 +553,104 @@ def _infer_draw(
     draw = np.where(never | beyond_running, np.inf, np.exp(log_draw))
     draw = np.where(below_all, 0.0, draw)
     return np.where(flat, np.nan, draw)
+
+
+def _switch_on_overrides(lamp, load, readings, source_resistance, frequency, responses):
+    """Predictions at each reading's seconds since switch-on, where a healthy unit is unsettled.
+
+    Returns the readings' indices and their meter views at the declared draw, its double and
+    ``SWITCH_ON_DRAWS`` (rows) from one switch-on run of all of them, and the readings taken
+    later than
+    ``SWITCH_ON_SECONDS`` while a healthy unit is still settling there.
+    """
+    timed = [
+        index
+        for index, reading in enumerate(readings)
+        if reading.seconds_since_switch_on is not None
+        and not reading.lamp_bypassed
+        and reading.source_voltage > 0
+    ]
+    if not timed or getattr(load, "constant_power", False):
+        return {}, []
+    seconds = np.array([readings[index].seconds_since_switch_on for index in timed])
+    sources = np.array([readings[index].source_voltage for index in timed])
+    duration = min(float(seconds.max()), SWITCH_ON_SECONDS) + 1.0 / frequency
+    draws = np.concatenate([[1.0, 2.0], SWITCH_ON_DRAWS])
+    try:
+        result = switch_on(
+            lamp,
+            load.scaled(draws),
+            sources[:, None],
+            source_resistance=source_resistance,
+            frequency=frequency,
+            duration=duration,
+            remanence=False,
+        )
+    except ValueError:
+        # A load without a time-domain model is judged on its steady state alone.
+        return {}, []
+    settle = result.settle_time[:, 0]
+    unsettled = ~(settle <= seconds)
+    within = seconds <= SWITCH_ON_SECONDS
+    rows = [index for index, flag in zip(timed, unsettled & within, strict=True) if flag]
+    late = [
+        (index, float(second))
+        for index, second, flag in zip(timed, seconds, unsettled & ~within, strict=True)
+        if flag
+    ]
+    if not rows:
+        return {}, late
+    pick = np.flatnonzero(unsettled & within)
+    half = result.at(seconds[pick])
+    volts = meter_view(
+        result.load_voltage[half, pick], result.average_load_voltage[half, pick], responses[0]
+    )
+    amps = meter_view(result.current[half, pick], result.average_current[half, pick], responses[1])
+    return {"rows": rows, "volts": volts.T, "amps": amps.T}, late
+
+
+def _draw_on_grid(grid_volts, grid_amps, reading, meter, ammeter):
+    """Draw, least and most draw of a reading among ``SWITCH_ON_DRAWS`` (log interpolation).
+
+    Beyond the grid the draw is 0 or infinite, as beyond the steady search.
+    """
+    by_current = reading.current is not None
+    measured = reading.current if by_current else reading.load_voltage
+    span = _uncertainty(measured, *(ammeter if by_current else meter))
+    rising = _draw_scale(grid_volts, grid_amps, reading.source_voltage, by_current)
+    log_grid = np.log(SWITCH_ON_DRAWS)
+    found = []
+    # Least draw: the reading moved by its uncertainty towards less draw, then towards more.
+    for value in (
+        measured,
+        measured - span if by_current else measured + span,
+        measured + span if by_current else max(measured - span, 0.0),
+    ):
+        target = _draw_scale(value, value, reading.source_voltage, by_current)
+        if target <= rising[0]:
+            found.append(0.0)
+        elif target >= rising[-1]:
+            found.append(np.inf)
+        else:
+            found.append(float(np.exp(np.interp(target, rising, log_grid))))
+    return tuple(found)
+
+
+def _not_settled_reasons(readings, late):
+    if not late:
+        return []
+    index, seconds = max(late, key=lambda item: item[1])
+    more = f" ({len(late) - 1} more readings alike)" if len(late) > 1 else ""
+    return [
+        Reason(
+            READING_NOT_SETTLED,
+            f"at {_volts(readings[index].source_voltage)} source the reading was taken "
+            f"{seconds:g} s after switch-on, while a healthy unit is still settling (its "
+            "heaters warming): it may show more draw than steady state; read it again once "
+            f"the lamp's glow has steadied{more}",
+            index,
+        )
+    ]
 
 
 def _volts(value):
@@ -568,6 +705,8 @@ def judge(
     open_draw_multiple=OPEN_DRAW_MULTIPLE,
     full_source_fraction=FULL_SOURCE_FRACTION,
     min_sensitivity_ratio=MIN_SENSITIVITY_RATIO,
+    voltmeter_response=TRUE_RMS,
+    ammeter_response=TRUE_RMS,
 ):
     """Judge a power-up test's readings against a healthy unit of the declared load.
 
@@ -604,6 +743,9 @@ def judge(
     min_sensitivity_ratio : float, default ``MIN_SENSITIVITY_RATIO`` (1.0)
         A reading tells a fault when a doubling of draw moves it by at least
         this multiple of the meter's uncertainty.
+    voltmeter_response, ammeter_response : str, default "true_rms"
+        ``"true_rms"`` or ``"average_responding"``: the meters' readings are predicted as
+        those meters would show them.
 
     Returns
     -------
@@ -651,6 +793,10 @@ def judge(
             f"{100 * FULL_SOURCE_FRACTION:.0f} % of nominal mains"
         )
     sensitivity_ratio = _check_positive(min_sensitivity_ratio, "min_sensitivity_ratio", "")
+    responses = (
+        check_response(voltmeter_response, "voltmeter_response"),
+        check_response(ammeter_response, "ammeter_response"),
+    )
     readings = tuple(readings)
     if not readings:
         raise ValueError("readings must hold at least one Reading")
@@ -698,7 +844,7 @@ def judge(
     # Healthy unit, doubled draw and the search grid of draws, all in one solve.
     draws = np.concatenate([[1.0, 2.0], np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS)])
     volts_k, amps_k, glow_k, state_k = _predict(
-        lamp, load, draws[:, None], source_3, bypassed_3, source_resistance, frequency
+        lamp, load, draws[:, None], source_3, bypassed_3, source_resistance, frequency, responses
     )
     draw_3 = _infer_draw(
         lamp,
@@ -711,6 +857,7 @@ def judge(
         amps_k[2:],
         source_resistance,
         frequency,
+        responses,
     )
     draw, least_draw, most_draw = draw_3[:n], draw_3[n : 2 * n], draw_3[2 * n :]
     volts_k, amps_k, glow_k, state_k = (
@@ -734,7 +881,12 @@ def judge(
             corners_bypassed,
             source_resistance,
             frequency,
+            responses,
         )
+    # Readings taken while a healthy unit is still settling: the switch-on instead.
+    switch_on_rows, not_settled = _switch_on_overrides(
+        lamp, load, readings, source_resistance, frequency, responses
+    )
     low, high = slice(0, n), slice(n, 2 * n)
     volts_low = corners["small"][0][0, low]
     volts_high = corners["large"][0][1, high]
@@ -749,6 +901,30 @@ def judge(
     volts_low = np.where(heavy_cycles & ~cannot_run, 0.0, volts_low)
     current_high = np.where(heavy_cycles & ~cannot_run, np.inf, current_high)
     glow_brightest = np.where(heavy_cycles & ~cannot_run, "bright", glow_brightest)
+    if switch_on_rows:
+        rows = switch_on_rows["rows"]
+        # The band moves with the healthy prediction: its corners scaled by the switch-on's
+        # ratio to the steady state at that instant.
+        for band, values, steady in (
+            (volts_low, switch_on_rows["volts"], volts_k[0, rows]),
+            (volts_high, switch_on_rows["volts"], volts_k[0, rows]),
+            (current_low, switch_on_rows["amps"], amps_k[0, rows]),
+            (current_high, switch_on_rows["amps"], amps_k[0, rows]),
+        ):
+            with np.errstate(divide="ignore", invalid="ignore"):
+                band[rows] = band[rows] * np.where(steady > 0, values[0] / steady, 1.0)
+        volts_k[:2, rows] = switch_on_rows["volts"][:2]
+        amps_k[:2, rows] = switch_on_rows["amps"][:2]
+        for position, reading_index in enumerate(rows):
+            draw[reading_index], least_draw[reading_index], most_draw[reading_index] = (
+                _draw_on_grid(
+                    switch_on_rows["volts"][2:, position],
+                    switch_on_rows["amps"][2:, position],
+                    readings[reading_index],
+                    meter,
+                    ammeter,
+                )
+            )
     volts_low = np.maximum(volts_low - _uncertainty(volts_low, *meter), 0.0)
     volts_high = volts_high + _uncertainty(volts_high, *meter)
     current_low = np.maximum(current_low - _uncertainty(current_low, *ammeter), 0.0)
@@ -807,6 +983,7 @@ def judge(
             sensitive=bool(sensitive[i]),
             predicted_state=str(state_k[0, i]),
             may_cycle=bool(cannot_run[i] | heavy_cycles[i]),
+            judged_against="switch_on" if i in switch_on_rows.get("rows", ()) else "steady_state",
         )
         for i in range(n)
     )
@@ -814,6 +991,7 @@ def judge(
     reasons = _draw_reasons(readings, judged, declared, getattr(load, "constant_power", False))
     reasons += _glow_reasons(readings, judged, load, declared)
     reasons += _cannot_run_reasons(readings, judged, declared)
+    reasons += _not_settled_reasons(readings, not_settled)
     if not any(reason.outcome != "pass" for reason in reasons):
         reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
     reasons.sort(key=lambda reason: -OUTCOME_SEVERITY.index(reason.outcome))
@@ -831,6 +1009,8 @@ def judge(
         "open_draw_multiple": open_multiple,
         "full_source_fraction": full_fraction,
         "min_sensitivity_ratio": sensitivity_ratio,
+        "voltmeter_response": responses[0],
+        "ammeter_response": responses[1],
     }
     return Verdict(
         outcome=reasons[0].outcome, reasons=tuple(reasons), readings=judged, settings=settings

@@ -69,6 +69,7 @@ CONDUCTION_EXPONENT = {"gas": 1.75, "vacuum": 1.0, "halogen": 1.75}
 # voltage steps are nearly even near zero volts (V grows as sqrt(T - T_amb) there).
 CURVE_POINTS = 2001
 NEWTON_STEPS = 3
+THERMAL_TABLE_STEP = 1.0  # [K]
 
 # Lamp.fit searches the conduction fraction within FIT_CONDUCTION_FRACTION_RANGE (half the
 # rated power by conduction is already beyond any lamp we know of) and accepts points up to
@@ -76,6 +77,15 @@ NEWTON_STEPS = 3
 # end of the resistivity table.
 FIT_CONDUCTION_FRACTION_RANGE = (0.0, 0.5)
 FIT_MAX_VOLTAGE_RATIO = 1.1
+
+
+class ThermalTable(NamedTuple):
+    """A filament's properties tabulated against its temperature, for switch-on transients."""
+
+    temperature: np.ndarray  # [K]
+    resistance: np.ndarray  # [ohm]
+    power_loss: np.ndarray  # [W]
+    heat_capacity: np.ndarray  # [J/K]
 
 
 class LampCurve(NamedTuple):
@@ -265,6 +275,7 @@ class Filament:
             / (rated**self._conduction_exponent - ambient**self._conduction_exponent)
         )
         self._build_curve()
+        self._thermal_table = None
 
     @property
     def rated_voltage(self):
@@ -350,6 +361,34 @@ class Filament:
         (:func:`shop.physics.materials.tungsten_heat_capacity`).
         """
         return self.mass * tungsten_heat_capacity(temperature)
+
+    def thermal_table(self):
+        """
+        Resistance, heat loss and heat capacity tabulated every kelvin, for fast transients.
+
+        Returns
+        -------
+        table : ThermalTable
+            ``temperature`` [K] from ambient to 3600 K every ``THERMAL_TABLE_STEP``,
+            ``resistance`` [ohm], ``power_loss`` [W] and ``heat_capacity`` [J/K] there;
+            read-only arrays, built once per filament. Linear interpolation between rows is
+            good to about 1e-7 of each (the curves are smooth on a 1 K scale).
+        """
+        if self._thermal_table is None:
+            temperature = np.arange(
+                self._ambient_temperature, TABLE_MAX_TEMPERATURE, THERMAL_TABLE_STEP
+            )
+            temperature = np.append(temperature, TABLE_MAX_TEMPERATURE)
+            table = ThermalTable(
+                temperature,
+                self.resistance_at_temperature(temperature),
+                self.power_loss(temperature),
+                self.heat_capacity(temperature),
+            )
+            for values in table:
+                values.setflags(write=False)
+            self._thermal_table = table
+        return self._thermal_table
 
     def __repr__(self):
         return (

@@ -30,6 +30,8 @@ TEMPERATURE_SPREAD = 100.0  # [K]
 # judgement's default meter; noise is normal with half that as standard deviation, clipped at it.
 METER = (0.01, 0.5)
 AMMETER = (0.02, 0.005)
+# An average-responding meter shows the rectified mean times a sine's form factor, pi / 2 sqrt 2.
+SINE_FORM_FACTOR = np.pi / (2.0 * np.sqrt(2.0))
 
 
 class SeriesInductance:
@@ -242,6 +244,8 @@ def readings(
     bypassed_steps=(),
     behaviour="steady",
     glow_seen=True,
+    seconds_since_switch_on=None,
+    average_responding=False,
 ):
     """Readings of a unit through ``lamp`` at each source step [V].
 
@@ -251,12 +255,26 @@ def readings(
     glow seen is the true lamp's glow class at its true voltage; readings at the source steps
     listed in ``bypassed_steps`` are taken with the lamp switched out. Where a constant-power
     unit has no operating point the glow is recorded as cycling, seen bright at its flashes,
-    and the unit's volts as its stop voltage, about where a meter's needle hovers.
+    and the unit's volts as its stop voltage, about where a meter's needle hovers. The
+    readings are of the steady state; ``seconds_since_switch_on`` [s] is recorded as given.
+    With ``average_responding`` the meters show a rectifying unit's rectified means times the
+    sine's form factor (a phasor unit's currents and volts are sines: no difference).
     """
     taken = []
     for source in steps:
         bypassed = source in bypassed_steps
-        if hasattr(impedance, "impedance"):
+        if average_responding and getattr(impedance, "waveform", False):
+            figures = periodic_steady_state(
+                None if bypassed else lamp,
+                impedance,
+                np.array([source]),
+                source_resistance,
+                frequency,
+            )
+            load_voltage = float(figures.average_load_voltage[0]) * SINE_FORM_FACTOR
+            current = float(figures.average_current[0]) * SINE_FORM_FACTOR
+            lamp_voltage = float(figures.lamp_voltage[0])
+        elif hasattr(impedance, "impedance"):
             load_voltage, current, lamp_voltage = load_operating_point(
                 lamp, impedance, source, frequency, source_resistance, lamp_bypassed=bypassed
             )
@@ -278,7 +296,7 @@ def readings(
                 behaviour_seen=None if bypassed else seen,
                 lamp_bypassed=bypassed,
                 seconds_held=10.0,
-                seconds_since_switch_on=5.0,
+                seconds_since_switch_on=seconds_since_switch_on,
             )
         )
     return taken

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from shop.physics.loads import ResistiveLoad, ScalableLoad
 from shop.physics.roots import bracketed_root
 from shop.physics.transformer import magnetising_current, magnetising_flux_slope
 
@@ -116,18 +117,36 @@ class Network:
 
     def __init__(self, load, frequency):
         self.frequency = float(frequency)
-        self.factor = np.asarray(getattr(load, "draw_factor", np.array(1.0)), dtype=float)
-        if np.isinf(self.factor).any():
-            raise ValueError(
-                "factor must be finite for a rectifying unit: a dead short has no rectifier "
-                "left; declare it as a resistance of 0 ohm"
-            )
-        one = load._copy_with_factor(np.array(1.0)) if hasattr(load, "draw_factor") else load
         self.conductance = 0.0
         self.heaters = []
         self.transformers = []
         self.rectifier = None
-        for member, multiplier in _flatten(one):
+        if getattr(load, "constant_power", False):
+            raise ValueError(
+                "a constant-power input has no time-domain model here: its steady state says "
+                "whether it runs, cycles or does not start"
+            )
+        if isinstance(load, ScalableLoad):
+            self.factor = np.asarray(load.draw_factor, dtype=float)
+            members = _flatten(load._copy_with_factor(np.array(1.0)))
+        elif not isinstance(load, ResistiveLoad):
+            raise ValueError(
+                f"{type(load).__name__} has no time-domain model: use the unit models of "
+                "shop.physics"
+            )
+        else:
+            # A plain resistance, one per column: a conductance of 1 S scaled by 1 / R.
+            with np.errstate(divide="ignore"):
+                self.factor = 1.0 / np.asarray(load.resistance, dtype=float)
+            members = []
+            self.conductance = 1.0
+        self.shorted = np.isinf(self.factor)
+        if self.shorted.any() and hasattr(load, "draw_factor"):
+            raise ValueError(
+                "factor must be finite for a unit of several parts: a dead short has none of "
+                "them left; declare it as a resistance of 0 ohm"
+            )
+        for member, multiplier in members:
             if getattr(member, "waveform", False):
                 if self.rectifier is not None:
                     raise ValueError("a unit may hold one rectifier for the time-domain solver")
@@ -146,13 +165,13 @@ class Network:
                     f"{type(member).__name__} cannot be solved in the time domain: use "
                     "resistances, heaters, transformers and one rectifier"
                 )
-        if self.rectifier is None:
-            raise ValueError("the time-domain solver needs a rectifier in the unit")
         rectifier = self.rectifier
-        self.caps = 2 if rectifier.topology == "doubler" else 1
-        self.choke = rectifier.choke_inductance is not None
+        self.caps = 0 if rectifier is None else 2 if rectifier.topology == "doubler" else 1
+        self.choke = rectifier is not None and rectifier.choke_inductance is not None
         self.states = self.caps + int(self.choke) + len(self.transformers)
-        self.turns = rectifier.turns_ratio
+        self.turns = 1.0 if rectifier is None else rectifier.turns_ratio
+        if rectifier is None:
+            self.rectifier_share = 0.0
         # Per transformer: conductance seen through R_1, the share of i_m at the node, R_1,
         # and the flux-to-current scale of its core at this frequency.
         self.magnetising = []
@@ -179,7 +198,7 @@ class Network:
     @property
     def symmetric(self):
         """Whether the second half cycle mirrors the first (every full-wave rectifier)."""
-        return self.rectifier.topology != "half_wave"
+        return self.rectifier is None or self.rectifier.topology != "half_wave"
 
     def mirror(self, states):
         """The states half a cycle on, in a symmetric circuit: EMF and core flux reversed.
@@ -206,26 +225,32 @@ class Network:
         """The rectifier's DC output [V]: its reservoir, or the doubler's two in series."""
         return states[0] + states[1] if self.caps == 2 else states[0]
 
-    def time_constant(self, series_resistance, factor, voltage):
+    def time_constant(self, series_resistance, factor, voltage, saturated=False):
         """Shortest time constant of the circuit [s], for choosing the step.
 
         Parameters
         ----------
         series_resistance : numpy.ndarray
-            Lamp and rig resistance per column, its least value [ohm].
+            Lamp and rig resistance per column [ohm].
         factor : numpy.ndarray
             Draw factor per column.
         voltage : numpy.ndarray
             Largest RMS voltage the unit may see per column [V].
+        saturated : bool, default False
+            Take each core deep in saturation (its air-core inductance), as at a switch-on.
         """
         rectifier = self.rectifier
-        path = rectifier.path_resistance
-        share = factor * self.rectifier_share
-        # A conducting path charges the reservoir through itself and the series resistance
-        # referred to the secondary, shared with the unit's other branches.
-        linear = factor * (self.conductance + self.heater_conductance(0.0))
-        referred = self.turns**2 * series_resistance * share / (1.0 + series_resistance * linear)
-        shortest = rectifier.capacitance * (path + referred)
+        shortest = np.full(np.shape(factor), np.inf)
+        if rectifier is not None:
+            path = rectifier.path_resistance
+            share = factor * self.rectifier_share
+            # A conducting path charges the reservoir through itself and the series
+            # resistance referred to the secondary, shared with the unit's other branches.
+            linear = factor * (self.conductance + self.heater_conductance(0.0))
+            referred = (
+                self.turns**2 * series_resistance * share / (1.0 + series_resistance * linear)
+            )
+            shortest = rectifier.capacitance * (path + referred)
         if self.choke:
             shortest = np.minimum(
                 shortest,
@@ -236,7 +261,7 @@ class Network:
             self.magnetising, self.transformers, strict=True
         ):
             flux = np.sqrt(2.0) * voltage / (2.0 * np.pi * self.frequency)
-            peak = magnetising_current(flux / (scale * knee), core)
+            peak = np.inf if saturated else magnetising_current(flux / (scale * knee), core)
             inductance = scale * magnetising_flux_slope(peak, core)
             resistance = primary + series_resistance * factor * multiplier
             shortest = np.minimum(shortest, inductance / resistance)
@@ -273,17 +298,23 @@ class Network:
         """
         rectifier = self.rectifier
         turns = self.turns
+        # A dead short (a resistance of 0 ohm) holds the unit at 0 V: set apart below.
+        shorted = np.isinf(factor)
+        factor = np.where(shorted, 0.0, factor)
         linear = factor * (self.conductance + heater_conductance)
         damping = 1.0 + series_resistance * linear
         share = factor * self.rectifier_share
-        path_resistance = rectifier.path_resistance / np.maximum(warm, 1e-12)
-        path_gain = damping / (damping * path_resistance + series_resistance * share * turns**2)
-        pull = series_resistance * share * turns / damping
-        feed = share * turns
-        drop = rectifier.path_drop
-        inverse_capacitance = 1.0 / rectifier.capacitance
-        half_wave = rectifier.topology == "half_wave"
         doubler = self.caps == 2
+        if rectifier is not None:
+            path_resistance = rectifier.path_resistance / np.maximum(warm, 1e-12)
+            path_gain = damping / (damping * path_resistance + series_resistance * share * turns**2)
+            pull = series_resistance * share * turns / damping
+            feed = share * turns
+            drop = rectifier.path_drop
+            inverse_capacitance = 1.0 / rectifier.capacitance
+            half_wave = rectifier.topology == "half_wave"
+            dc_resistance = rectifier.dc_resistance
+            dc_current = rectifier.dc_current
         choke = self.choke
         first = self.caps + int(choke)
         magnetising = [
@@ -305,8 +336,6 @@ class Network:
         if choke:
             choke_loss = path_resistance + rectifier.choke_resistance
             inverse_inductance = 1.0 / rectifier.choke_inductance
-        dc_resistance = rectifier.dc_resistance
-        dc_current = rectifier.dc_current
 
         def evaluate(drive, states):
             open_drive = drive
@@ -314,21 +343,31 @@ class Network:
             for index, share_m, drop_m, *_ in magnetising:
                 magnetising_current = magnetising_current + share_m * states[index]
                 open_drive = open_drive - drop_m * states[index]
-            sign = np.copysign(1.0, open_drive)
             off = open_drive / damping
-            if choke:
-                path = np.maximum(states[1], 0.0)
-            else:
-                reservoir = np.where(sign > 0, states[0], states[1]) if doubler else states[0]
-                path = np.maximum(turns * sign * off - drop - reservoir, 0.0) * path_gain
-                if half_wave:
-                    path = path * (sign > 0)
-            voltage = off - pull * sign * path
-            current = linear * voltage + factor * magnetising_current + feed * sign * path
-            output = states[0] + states[1] if doubler else states[0]
-            load = output / dc_resistance if dc_current is None else dc_current * (output > 0)
             derivative = np.empty_like(states)
-            if choke:
+            if rectifier is None:
+                voltage = off
+                current = linear * voltage + factor * magnetising_current
+                path = np.zeros(np.shape(voltage))
+                if shorted.any():
+                    voltage = np.where(shorted, 0.0, voltage)
+                    current = np.where(shorted, drive / series_resistance, current)
+            else:
+                sign = np.copysign(1.0, open_drive)
+                if choke:
+                    path = np.maximum(states[1], 0.0)
+                else:
+                    reservoir = np.where(sign > 0, states[0], states[1]) if doubler else states[0]
+                    path = np.maximum(turns * sign * off - drop - reservoir, 0.0) * path_gain
+                    if half_wave:
+                        path = path * (sign > 0)
+                voltage = off - pull * sign * path
+                current = linear * voltage + factor * magnetising_current + feed * sign * path
+                output = states[0] + states[1] if doubler else states[0]
+                load = output / dc_resistance if dc_current is None else dc_current * (output > 0)
+            if rectifier is None:
+                pass
+            elif choke:
                 slope = (
                     turns * sign * voltage - drop - choke_loss * path - states[0]
                 ) * inverse_inductance

@@ -7,18 +7,22 @@ import pytest
 
 from shop.physics import scenarios as reference
 from shop.physics.advice import SUITABLE, TOO_SMALL, advise_lamp
-from shop.physics.circuit import NO_OPERATING_POINT, OFF
+from shop.physics.circuit import NO_OPERATING_POINT, OFF, meter_readings, solve_series
 from shop.physics.judgement import (
     ALL_IN_BAND,
     DRAW_BELOW_BAND,
     DRAW_HIGH,
     GLOW_CYCLING_UNEXPECTED,
     LOAD_CANNOT_RUN,
+    READING_NOT_SETTLED,
+    Reading,
     judge,
 )
 from shop.physics.lamp import Lamp
 from shop.physics.nameplate import unit_load_from_nameplate
+from shop.physics.rectifier import RectifierLoad
 from shop.physics.switch_mode import ConstantPowerLoad
+from shop.physics.transient import switch_on
 
 RADIO = unit_load_from_nameplate(
     rated_voltage=120.0,
@@ -148,3 +152,92 @@ def test_lamp_advice_calls_a_lamp_too_small_when_the_unit_cannot_run_through_it(
     assert by_power[25.0].suitability == TOO_SMALL
     assert "cycle or not start" in by_power[25.0].reason
     assert advice[0].suitability == SUITABLE
+
+
+SUPPLY = RectifierLoad(120.0, 470e-6, dc_resistance=300.0, turns_ratio=0.5)
+SUPPLY_LAMP = Lamp(120.0, 100.0)
+
+
+def _supply_verdict(average_responding, ammeter_response):
+    readings = reference.readings(
+        reference.random_perturbed_lamp(SUPPLY_LAMP, np.random.default_rng(8)),
+        SUPPLY,
+        RADIO_STEPS,
+        np.random.default_rng(8),
+        source_resistance=WINDINGS_120,
+        with_current=True,
+        average_responding=average_responding,
+    )
+    return judge(
+        SUPPLY_LAMP,
+        SUPPLY,
+        readings,
+        nominal_source_voltage=120.0,
+        source_resistance=WINDINGS_120,
+        voltmeter_response=ammeter_response,
+        ammeter_response=ammeter_response,
+    )
+
+
+def test_an_average_responding_ammeter_reads_a_rectifier_low_and_is_judged_like_with_like():
+    verdict = _supply_verdict(True, "average_responding")
+    assert verdict.outcome == "pass", verdict.reasons
+    assert verdict.settings["ammeter_response"] == "average_responding"
+
+
+def test_judged_as_if_true_rms_the_same_readings_look_like_too_little_draw():
+    verdict = _supply_verdict(True, "true_rms")
+    assert DRAW_BELOW_BAND in verdict.codes
+
+
+def test_the_predicted_average_responding_reading_is_below_the_rms_for_peaky_current():
+    through = solve_series(SUPPLY_LAMP, SUPPLY, 120.0, WINDINGS_120)
+    _, amps = meter_readings(
+        SUPPLY_LAMP, SUPPLY, 120.0, WINDINGS_120, ammeter_response="average_responding"
+    )
+    # A capacitor input's current has a crest factor well above a sine's root 2.
+    assert float(through.peak_current / through.current) > 2.0
+    assert float(amps) < 0.9 * float(through.current)
+
+
+def _switched_on_reading(seconds, lamp=RADIO_LAMP):
+    result = switch_on(lamp, RADIO, 120.0, source_resistance=WINDINGS_120, duration=seconds)
+    half = result.at(seconds)
+    return Reading(
+        source_voltage=120.0,
+        load_voltage=float(result.load_voltage[half]),
+        seconds_since_switch_on=seconds,
+    )
+
+
+def test_a_reading_during_the_switch_on_is_judged_against_the_switch_on():
+    # Taken 0.4 s after switch-on of a healthy set through the lamp the rig really had.
+    true_lamp = reference.perturbed_lamp(RADIO_LAMP, 1.03, -40.0)
+    steady = reference.readings(
+        true_lamp, RADIO, RADIO_STEPS[:-1], np.random.default_rng(9), source_resistance=2.0
+    )
+    readings = steady + [_switched_on_reading(0.4, true_lamp)]
+    verdict = judge(
+        RADIO_LAMP, RADIO, readings, nominal_source_voltage=120.0, source_resistance=2.0
+    )
+    assert verdict.readings[-1].judged_against == "switch_on"
+    assert verdict.readings[-1].status == "in_band"
+    assert verdict.outcome == "pass", verdict.reasons
+
+
+def test_the_same_reading_without_its_time_looks_like_a_heavy_draw():
+    reading = _switched_on_reading(0.4)
+    untimed = Reading(source_voltage=120.0, load_voltage=reading.load_voltage)
+    verdict = judge(
+        RADIO_LAMP, RADIO, [untimed], nominal_source_voltage=120.0, source_resistance=2.0
+    )
+    assert verdict.readings[0].judged_against == "steady_state"
+    assert verdict.readings[0].status in ("draw_above_band", "draw_high")
+
+
+def test_a_reading_taken_while_heaters_still_warm_beyond_the_followed_switch_on_is_named():
+    reading = Reading(source_voltage=120.0, load_voltage=80.0, seconds_since_switch_on=5.0)
+    verdict = judge(
+        RADIO_LAMP, RADIO, [reading], nominal_source_voltage=120.0, source_resistance=2.0
+    )
+    assert READING_NOT_SETTLED in verdict.codes
