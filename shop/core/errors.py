@@ -10,8 +10,12 @@ Every 4xx answer of the API has the body::
 
 from __future__ import annotations
 
+import logging
+
 from django.core.exceptions import PermissionDenied as DjangoPermissionDenied
+from django.core.exceptions import RequestDataTooBig, TooManyFieldsSent, TooManyFilesSent
 from django.core.exceptions import ValidationError as DjangoValidationError
+from django.db import DataError
 from django.db.models import ProtectedError
 from django.http import Http404, JsonResponse
 from rest_framework import exceptions, status
@@ -20,6 +24,17 @@ from rest_framework.settings import api_settings
 from rest_framework.views import exception_handler
 
 NON_FIELD = api_settings.NON_FIELD_ERRORS_KEY
+logger = logging.getLogger(__name__)
+# Refusals of requests too big or too deep to read, before any field is looked at.
+UNREADABLE_BODY = {
+    RequestDataTooBig: (
+        "too_large",
+        "The request body is larger than the server reads; files go in a multipart upload.",
+    ),
+    TooManyFieldsSent: ("too_many_fields", "The request sends more form fields than we read."),
+    TooManyFilesSent: ("too_many_files", "The request sends more files than we read."),
+    RecursionError: ("parse_error", "The request body is nested too deeply to read."),
+}
 
 
 class ApplicationError(Exception):
@@ -88,6 +103,13 @@ def flatten_detail(detail, prefix: str = "") -> dict[str, list[str]]:
     return flat
 
 
+def _encodable(text):
+    """`text` with any lone surrogate (which UTF-8 cannot carry) written as an escape."""
+    if not isinstance(text, str):
+        return text
+    return text.encode("utf-8", "backslashreplace").decode("utf-8")
+
+
 def error_body(
     code: str,
     message: str,
@@ -95,11 +117,23 @@ def error_body(
     field: str | None = None,
     **extra,
 ) -> dict:
-    """Build the error envelope; `field` defaults to the first entry of `fields`."""
-    fields = fields or {}
+    """Build the error envelope; `field` defaults to the first entry of `fields`.
+
+    Messages may quote what the client sent; lone surrogates in it are escaped so the answer
+    can always be encoded.
+    """
+    fields = {
+        _encodable(name): [_encodable(message) for message in messages]
+        for name, messages in (fields or {}).items()
+    }
     if field is None:
         field = next((name for name in fields if name != NON_FIELD), None)
-    body = {"code": code, "message": message, "field": field, "fields": fields}
+    body = {
+        "code": code,
+        "message": _encodable(message),
+        "field": _encodable(field),
+        "fields": fields,
+    }
     body.update(extra)
     return {"error": body}
 
@@ -136,6 +170,22 @@ def shop_exception_handler(exc, context):
         else:
             fields = {NON_FIELD: [str(m) for m in exc.messages]}
         return _validation_response(fields)
+    for kind, (code, message) in UNREADABLE_BODY.items():
+        if isinstance(exc, kind):
+            return Response(error_body(code, message), status=status.HTTP_400_BAD_REQUEST)
+    if isinstance(exc, DataError):
+        # The database could not store or compare a value (a NUL character in PostgreSQL
+        # text, a number out of a column's range): the request's data, not the server, is at
+        # fault, but say so in the log in case it is ours.
+        logger.warning("Refused a value the database cannot hold: %s", exc)
+        return Response(
+            error_body(
+                "invalid",
+                "A value cannot be stored or searched for (too large, or holding a NUL "
+                "character). Check the values you sent.",
+            ),
+            status=status.HTTP_400_BAD_REQUEST,
+        )
     if isinstance(exc, ProtectedError):
         return Response(
             error_body(

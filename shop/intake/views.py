@@ -193,7 +193,8 @@ class EvidenceViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets
     role_rules = {"read": ANY_ROLE, "create": ANY_ROLE, "download": ANY_ROLE}
 
     def get_parsers(self):
-        if getattr(self, "action", None) == "create" or self.request is None:
+        # DRF asks before it sets `self.action`, so find the action from the method.
+        if self.request is None or self.action_map.get(self.request.method.lower()) == "create":
             return [MultiPartParser(), FormParser()]
         return super().get_parsers()
 

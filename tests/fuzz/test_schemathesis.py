@@ -12,11 +12,9 @@ sets it). The seed is fixed, so two runs on the same code send the same requests
 
 from __future__ import annotations
 
-import os
 from collections import Counter, defaultdict
 from datetime import date, timedelta
 
-import pytest
 import schemathesis
 from django.contrib.auth.models import User
 from django.db import transaction
@@ -34,13 +32,10 @@ from shop.bench.models import TestStatus as PowerUpStatus
 from shop.intake.models import Customer, Evidence, Job, JobState, RepairStep, Unit
 from shop.intake.workflow import allowed_targets
 
-from .conftest import CERTIFIABLE_STATES, in_process_app
+from .conftest import CERTIFIABLE_STATES, in_process_app, once_per_ci_run
 from .content import evidence_files, plausible_readings, readings_csv_files
 
-pytestmark = pytest.mark.skipif(
-    bool(os.environ.get("DATABASE_URL")),
-    reason="the fuzz run runs once per CI run, on the SQLite pass (DATABASE_URL unset)",
-)
+pytestmark = once_per_ci_run
 
 FUZZ_SEED = 70_2026
 SCHEMA_PATH = "/api/schema/?format=json"
