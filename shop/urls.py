@@ -12,6 +12,7 @@ from shop.core.auth_views import (
     UserTokenRevokeView,
 )
 
+handler400 = "shop.core.errors.json_bad_request"
 handler404 = "shop.core.errors.json_not_found"
 handler500 = "shop.core.errors.json_server_error"
 

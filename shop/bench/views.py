@@ -16,9 +16,9 @@ from rest_framework.generics import GenericAPIView
 from rest_framework.parsers import JSONParser, MultiPartParser
 from rest_framework.response import Response
 
-from shop.core.errors import ApplicationError
+from shop.core.errors import ApplicationError, Conflict
 from shop.core.roles import ANY_ROLE, LEAD, TECHNICIAN, HasShopRole
-from shop.core.schema import ERROR_RESPONSES, WRITE_ERROR_RESPONSES
+from shop.core.schema import ERROR_RESPONSES, WRITE_ERROR_RESPONSES, ErrorSerializer
 from shop.core.versioning import expected_version
 from shop.core.views import VersionedModelViewSet
 from shop.intake.models import Unit
@@ -267,14 +267,18 @@ class PowerUpViewSet(VersionedModelViewSet):
         )
         return Response(VerdictSerializer(verdict).data)
 
-    @extend_schema(responses={200: VerdictSerializer, **ERROR_RESPONSES})
+    @extend_schema(
+        responses={
+            200: VerdictSerializer,
+            **ERROR_RESPONSES,
+            409: OpenApiResponse(ErrorSerializer, description="The test is still open."),
+        }
+    )
     @action(detail=True, methods=["get"])
     def verdict(self, request, pk=None):
         test = self.get_object()
         if not hasattr(test, "verdict"):
-            raise ApplicationError(
-                "The test is still open: close it to get a verdict.", code="no_verdict"
-            )
+            raise Conflict("The test is still open: close it to get a verdict.", code="no_verdict")
         return Response(VerdictSerializer(test.verdict).data)
 
 

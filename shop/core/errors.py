@@ -217,6 +217,16 @@ def json_not_found(request, exception=None):
     )
 
 
+def json_bad_request(request, exception=None):
+    """Plain Django 400 (a body or form over the size limits, refused before any view)."""
+    return JsonResponse(
+        error_body(
+            "bad_request", "The request could not be read: it may be too large or malformed."
+        ),
+        status=400,
+    )
+
+
 def json_server_error(request):
     """Plain Django 500 page in the error shape; the details go to the log, not the client."""
     return JsonResponse(

@@ -124,7 +124,7 @@ def test_closing_without_readings_is_a_409(open_test, client_for):
 
 def test_an_open_test_has_no_verdict_yet(open_test, client_for):
     response = client_for("technician").get(f"/api/powerups/{open_test.pk}/verdict/")
-    assert response.status_code == 400
+    assert response.status_code == 409
     assert response.json()["error"]["code"] == "no_verdict"
 
 

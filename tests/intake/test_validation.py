@@ -121,3 +121,12 @@ def test_unknown_paths_answer_json_404(client_for, db):
     response = client_for("lead").get("/api/nothing-here/")
     assert response.status_code == 404
     assert response.json()["error"]["code"] == "not_found"
+
+
+def test_a_request_django_refuses_before_any_view_still_gets_the_error_shape(client, db):
+    fields = "&".join(f"f{i}=x" for i in range(1500))  # over DATA_UPLOAD_MAX_NUMBER_FIELDS
+    response = client.post(
+        "/admin/login/", data=fields, content_type="application/x-www-form-urlencoded"
+    )
+    assert response.status_code == 400
+    assert response.json()["error"]["code"] == "bad_request"
