@@ -337,6 +337,33 @@ class Network:
             choke_loss = path_resistance + rectifier.choke_resistance
             inverse_inductance = 1.0 / rectifier.choke_inductance
 
+        def rectify(states, open_drive, off, magnetising_current, derivative):
+            """The rectifier's path at this instant; its states' derivatives into place."""
+            sign = np.copysign(1.0, open_drive)
+            if choke:
+                path = np.maximum(states[1], 0.0)
+            else:
+                reservoir = np.where(sign > 0, states[0], states[1]) if doubler else states[0]
+                path = np.maximum(turns * sign * off - drop - reservoir, 0.0) * path_gain
+                if half_wave:
+                    path = path * (sign > 0)
+            voltage = off - pull * sign * path
+            current = linear * voltage + factor * magnetising_current + feed * sign * path
+            output = states[0] + states[1] if doubler else states[0]
+            load = output / dc_resistance if dc_current is None else dc_current * (output > 0)
+            if choke:
+                slope = (
+                    turns * sign * voltage - drop - choke_loss * path - states[0]
+                ) * inverse_inductance
+                derivative[1] = np.where((states[1] <= 0) & (slope < 0), 0.0, slope)
+                derivative[0] = (path - load) * inverse_capacitance
+            elif doubler:
+                derivative[0] = (path * (sign > 0) - load) * inverse_capacitance
+                derivative[1] = (path * (sign < 0) - load) * inverse_capacitance
+            else:
+                derivative[0] = (path - load) * inverse_capacitance
+            return voltage, current, path
+
         def evaluate(drive, states):
             open_drive = drive
             magnetising_current = 0.0
@@ -353,31 +380,9 @@ class Network:
                     voltage = np.where(shorted, 0.0, voltage)
                     current = np.where(shorted, drive / series_resistance, current)
             else:
-                sign = np.copysign(1.0, open_drive)
-                if choke:
-                    path = np.maximum(states[1], 0.0)
-                else:
-                    reservoir = np.where(sign > 0, states[0], states[1]) if doubler else states[0]
-                    path = np.maximum(turns * sign * off - drop - reservoir, 0.0) * path_gain
-                    if half_wave:
-                        path = path * (sign > 0)
-                voltage = off - pull * sign * path
-                current = linear * voltage + factor * magnetising_current + feed * sign * path
-                output = states[0] + states[1] if doubler else states[0]
-                load = output / dc_resistance if dc_current is None else dc_current * (output > 0)
-            if rectifier is None:
-                pass
-            elif choke:
-                slope = (
-                    turns * sign * voltage - drop - choke_loss * path - states[0]
-                ) * inverse_inductance
-                derivative[1] = np.where((states[1] <= 0) & (slope < 0), 0.0, slope)
-                derivative[0] = (path - load) * inverse_capacitance
-            elif doubler:
-                derivative[0] = (path * (sign > 0) - load) * inverse_capacitance
-                derivative[1] = (path * (sign < 0) - load) * inverse_capacitance
-            else:
-                derivative[0] = (path - load) * inverse_capacitance
+                voltage, current, path = rectify(
+                    states, open_drive, off, magnetising_current, derivative
+                )
             for index, _, _, primary, inner, through, scale, knee, slope in magnetising:
                 state = states[index]
                 core_voltage = voltage - primary * (state + inner * voltage) * through
@@ -524,6 +529,10 @@ def periodic_steady_state(lamp, load, source_voltage, source_resistance, frequen
     ``RELAXATION_CYCLES`` cycles.
     """
     network = Network(load, frequency)
+    if network.rectifier is None:
+        raise ValueError(
+            "load has no rectifier: its steady state is a phasor solution (solve_series)"
+        )
     shape = np.broadcast_shapes(np.shape(source_voltage), network.factor.shape)
     source = np.broadcast_to(np.asarray(source_voltage, dtype=float), shape).ravel()
     factor = np.broadcast_to(network.factor, shape).ravel()

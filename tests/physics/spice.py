@@ -13,6 +13,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from shop.physics.transformer import magnetising_flux_slope
+
 NGSPICE = shutil.which("ngspice")
 # A diode that switches within millivolts: the models' diodes are an ideal switch with a
 # forward drop and a resistance in series, which the netlists add as parts of their own.
@@ -84,3 +86,60 @@ def simulate(body, probes, frequency, settle, cycles=4, initial=""):
         data = np.loadtxt(output)
     samples = data[:-1]  # the last point closes the window: leave it out of the means
     return {probe: samples[:, 2 * k + 1] for k, probe in enumerate(probes)}
+
+
+def source(volts, frequency, resistance, phase=0.0):
+    """The rig: a sine of ``volts`` RMS from ``V1`` through ``resistance`` to node ``u``."""
+    return f"V1 src 0 SIN(0 {np.sqrt(2) * volts} {frequency} 0 0 {phase})\nRS src u {resistance}\n"
+
+
+def valve_set(transformer, heater_resistance, rectifier, unit_voltage, frequency):
+    """A transformer's core, heaters and a centre-tap rectifier at node ``u``; its ``.ic``.
+
+    The core's magnetising current is held as the voltage of a 1 F capacitor ``x``:
+    ``d i_m / dt = v_m / L_d(i_m)`` with ``L_d = scale (c + (2/pi) / (1 + (i_m / i_k)^2))``,
+    the curve of ``shop.physics.transformer.magnetising_flux``. It starts near its steady
+    flux at the unit's RMS voltage ``unit_voltage`` [V], so that the run settles quickly.
+    """
+    scale = transformer.saturation_flux(frequency) / transformer.knee_current
+    slope = float(magnetising_flux_slope(np.inf, transformer.core))
+    knee = transformer.knee_current
+    n, path = rectifier.turns_ratio, rectifier.winding_resistance
+    body = f"RH u 0 {heater_resistance}\n"
+    body += f"R1 u m {transformer.primary_resistance}\nRC m 0 {1 / transformer.core_conductance}\n"
+    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + {2 / np.pi} / "
+    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
+    body += f"EA a 0 u 0 {n}\nEB b 0 u 0 {-n}\nVSA a a1 0\nVSB b b1 0\n"
+    body += f"FA u 0 VSA {n}\nFB u 0 VSB {-n}\nRWA a1 a2 {path}\nRWB b1 b2 {path}\n"
+    body += diode("1", "a2", "out", rectifier.diode_drop, rectifier.diode_resistance)
+    body += diode("2", "b2", "out", rectifier.diode_drop, rectifier.diode_resistance)
+    body += f"C1 out 0 {rectifier.capacitance}\nRL out 0 {rectifier.dc_resistance}\n"
+    flux = np.sqrt(2) * unit_voltage / (2 * np.pi * frequency)
+    start = -knee * np.tan(np.pi / 2 * flux / transformer.saturation_flux(frequency))
+    return body, f".ic v(x)={start}"
+
+
+def lamp_switch_on(lamp, table_step=25.0):
+    """The lamp between nodes ``u`` and ``unit`` with its filament's temperature at node ``t``.
+
+    ``C(T) dT/dt = v^2 / R(T) - P_loss(T)``, the filament's own resistance, heat loss and heat
+    capacity tabulated every ``table_step`` kelvin as ngspice ``pwl`` functions; the
+    temperature starts at the lamp's ambient (``.ic``).
+    """
+    table = lamp.thermal_table()
+    last = table.temperature.size - 1
+    rows = np.unique(np.append(np.arange(0, last, int(table_step)), last))
+
+    def pwl(column):
+        pairs = ", ".join(
+            f"{t:.6g},{value:.9g}" for t, value in zip(table.temperature[rows], column[rows])
+        )
+        return f"pwl(v(t), {pairs})"
+
+    resistance = pwl(table.resistance)
+    body = f"BL u unit I = v(u,unit) / {resistance}\nCT t 0 1\n"
+    body += (
+        f"BT 0 t I = (v(u,unit)^2 / {resistance} - {pwl(table.power_loss)}) / "
+        f"{pwl(table.heat_capacity)}\n"
+    )
+    return body, f".ic v(t)={table.temperature[0]}"

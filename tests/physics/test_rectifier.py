@@ -12,7 +12,7 @@ from shop.physics.heater import HeaterLoad
 from shop.physics.lamp import Lamp
 from shop.physics.loads import Load
 from shop.physics.rectifier import RectifierLoad
-from shop.physics.transformer import TransformerLoad, magnetising_flux_slope
+from shop.physics.transformer import TransformerLoad
 from tests.physics import spice
 
 # Issue 6: RMS and peak current and DC volts agree with ngspice within 2 %.
@@ -35,10 +35,6 @@ def _spice_figures(body, output, frequency, settle, initial=""):
     }
 
 
-def _source(volts, frequency, resistance):
-    return f"V1 src 0 SIN(0 {np.sqrt(2) * volts} {frequency} 0 0 0)\nRS src u {resistance}\n"
-
-
 def _assert_agrees(ours, theirs):
     # Issue 6: within 2 %; the diodes differ (ours switch ideally, ngspice's by millivolts).
     assert_allclose(float(ours.current), theirs["current"], rtol=SPICE_AGREEMENT)
@@ -55,7 +51,7 @@ def test_a_rectifier_follows_the_load_protocol_but_has_no_impedance():
 
 def test_a_direct_silicon_bridge_agrees_with_ngspice():
     load = RectifierLoad(120.0, 220e-6, topology="bridge", dc_resistance=1000.0)
-    body = _source(120.0, 60.0, 30.0)
+    body = spice.source(120.0, 60.0, 30.0)
     for name, anode, cathode in (
         ("1", "u", "pos"),
         ("2", "0", "pos"),
@@ -72,7 +68,7 @@ def test_a_half_wave_valve_rectifier_straight_off_the_mains_agrees_with_ngspice(
     load = RectifierLoad(
         120.0, 50e-6, topology="half_wave", dc_resistance=3000.0, rectifier="valve"
     )
-    body = _source(120.0, 60.0, 20.0)
+    body = spice.source(120.0, 60.0, 20.0)
     body += spice.diode("1", "u", "out", load.diode_drop, load.diode_resistance)
     body += "C1 out 0 50u\nRL out 0 3000\n"
     theirs = _spice_figures(body, "v(out)", 60.0, settle=2.0)
@@ -89,7 +85,7 @@ def test_a_centre_tap_valve_rectifier_through_a_transformer_agrees_with_ngspice(
         winding_resistance=60.0,
         rectifier="valve",
     )
-    body = _source(230.0, 50.0, 40.0)
+    body = spice.source(230.0, 50.0, 40.0)
     # An ideal transformer: each half of the secondary an EMF of n v(u), the primary drawing
     # n times each half's current.
     body += "EA a 0 u 0 1.4\nEB b 0 u 0 -1.4\nVSA a a1 0\nVSB b b1 0\n"
@@ -103,7 +99,7 @@ def test_a_centre_tap_valve_rectifier_through_a_transformer_agrees_with_ngspice(
 
 def test_a_voltage_doubler_agrees_with_ngspice():
     load = RectifierLoad(120.0, 100e-6, topology="doubler", dc_resistance=4000.0)
-    body = _source(120.0, 60.0, 25.0)
+    body = spice.source(120.0, 60.0, 25.0)
     body += spice.diode("1", "u", "top", load.diode_drop, load.diode_resistance)
     body += spice.diode("2", "bottom", "u", load.diode_drop, load.diode_resistance)
     body += "C1 top 0 100u\nC2 0 bottom 100u\nRL top bottom 4000\nEOUT out 0 top bottom 1\n"
@@ -122,7 +118,7 @@ def test_a_choke_input_bridge_agrees_with_ngspice():
         choke_inductance=4.0,
         choke_resistance=100.0,
     )
-    body = _source(120.0, 60.0, 10.0)
+    body = spice.source(120.0, 60.0, 10.0)
     body += "ES s 0 u 0 2\nVSS s s1 0\nFS u 0 VSS 2\nRW s1 s2 20\n"
     for name, anode, cathode in (
         ("1", "s2", "pos"),
@@ -152,25 +148,12 @@ def test_a_valve_set_of_transformer_heaters_and_rectifier_agrees_with_ngspice():
     ours = _figures(unit, 120.0, 15.0)
     # The heaters sit at the resistance of the RMS volts our solution gives them.
     heater_resistance = 1.0 / float(heaters.admittance(ours.load_voltage, 60.0).real)
-    scale = transformer.saturation_flux(60.0) / transformer.knee_current
-    slope = float(magnetising_flux_slope(np.inf, "ei"))
-    knee = transformer.knee_current
-    n, path = 2.5, rectifier.winding_resistance
-    body = _source(120.0, 60.0, 15.0)
-    body += f"RH u 0 {heater_resistance}\n"
-    # The core's magnetising current i_m held as the voltage of a 1 F capacitor:
-    # d i_m / dt = v_m / L_d(i_m), L_d = scale (c + (2/pi) / (1 + (i_m / i_k)^2)).
-    body += f"R1 u m {transformer.primary_resistance}\nRC m 0 {1 / transformer.core_conductance}\n"
-    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + 0.6366197723675814 / "
-    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
-    body += f"EA a 0 u 0 {n}\nEB b 0 u 0 {-n}\nVSA a a1 0\nVSB b b1 0\n"
-    body += f"FA u 0 VSA {n}\nFB u 0 VSB {-n}\nRWA a1 a2 {path}\nRWB b1 b2 {path}\n"
-    body += spice.diode("1", "a2", "out", rectifier.diode_drop, rectifier.diode_resistance)
-    body += spice.diode("2", "b2", "out", rectifier.diode_drop, rectifier.diode_resistance)
-    body += "C1 out 0 40u\nRL out 0 6000\n"
-    flux = np.sqrt(2) * float(ours.load_voltage) / (2 * np.pi * 60.0)
-    initial = f".ic v(x)={-knee * np.tan(np.pi / 2 * flux / transformer.saturation_flux(60.0))}"
-    theirs = _spice_figures(body, "v(out)", 60.0, settle=2.0, initial=initial)
+    body, initial = spice.valve_set(
+        transformer, heater_resistance, rectifier, float(ours.load_voltage), 60.0
+    )
+    theirs = _spice_figures(
+        spice.source(120.0, 60.0, 15.0) + body, "v(out)", 60.0, settle=2.0, initial=initial
+    )
     _assert_agrees(ours, theirs)
 
 
