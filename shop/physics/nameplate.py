@@ -32,9 +32,10 @@ CONSTRUCTIONS = (
 AMPLIFIER_CATEGORIES = ("amplifier", "instrument_amplifier", "hifi")
 POWER_UNITS = ("W", "VA")
 
-# Consumer gear made before this year is taken as valve gear, later as solid state, unless
-# said (valves gave way to transistors in consumer gear through the 1960s; from memory).
-LAST_VALVE_YEAR = 1965
+# Gear made in or before this year is taken as valve gear, later as solid state, unless said:
+# valves gave way to transistors in consumer gear through the 1960s, while guitar and other
+# instrument amplifiers kept them well into the 1970s (from memory).
+LAST_VALVE_YEAR = {"instrument_amplifier": 1975, "other": 1965}
 # Share of a valve set's nameplate power taken by its heaters: about half to two thirds in a
 # series-string (transformerless) set, about a third in a transformer set (from memory: a
 # 0.15 A string across 120 V is 18 W of a 30 W set; a 6.3 V 2-3 A winding is 13-19 W of 50-65
@@ -86,16 +87,17 @@ def _check_choice(value, name, choices):
     return value
 
 
-def _is_valve(valve, year, assumptions):
+def _is_valve(valve, year, category, assumptions):
     if valve is not None:
         return bool(valve)
     if year is None:
         assumptions.append("Year not known: taken as solid-state gear (say valve=True if not).")
         return False
-    guess = int(year) <= LAST_VALVE_YEAR
+    last = LAST_VALVE_YEAR.get(category, LAST_VALVE_YEAR["other"])
+    guess = int(year) <= last
     assumptions.append(
-        f"Made in {int(year)}: taken as {'valve' if guess else 'solid-state'} gear (consumer "
-        f"gear of {LAST_VALVE_YEAR} and before is taken as valve gear)."
+        f"Made in {int(year)}: taken as {'valve' if guess else 'solid-state'} gear (such gear "
+        f"of {last} and before is taken as valve gear)."
     )
     return guess
 
@@ -306,7 +308,7 @@ def unit_load_from_nameplate(
             assumptions
         )
 
-    valve_gear = _is_valve(valve, year, assumptions)
+    valve_gear = _is_valve(valve, year, category, assumptions)
     series_string = construction == "transformerless"
     if construction == "own_autotransformer":
         assumptions.append(

@@ -241,3 +241,64 @@ def test_a_reading_taken_while_heaters_still_warm_beyond_the_followed_switch_on_
         RADIO_LAMP, RADIO, [reading], nominal_source_voltage=120.0, source_resistance=2.0
     )
     assert READING_NOT_SETTLED in verdict.codes
+
+
+# The demo shop's amplifiers (fixtures/demo/intake.json): a 1968 valve guitar amplifier with
+# its speaker on the output, and a 1979 solid-state integrated amplifier.
+AMPLIFIERS = {
+    "valve amplifier": unit_load_from_nameplate(
+        rated_voltage=230.0,
+        rated_power=120.0,
+        category="instrument_amplifier",
+        construction="isolating_transformer",
+        rated_frequency=50.0,
+        year=1968,
+        dummy_load_on_output=True,
+    ),
+    "solid-state amplifier": unit_load_from_nameplate(
+        rated_voltage=230.0,
+        rated_power=180.0,
+        category="hifi",
+        construction="isolating_transformer",
+        year=1979,
+    ),
+}
+RIG_230_LAMPS = [Lamp(230.0, watts) for watts in (25.0, 40.0, 60.0, 100.0, 150.0)]
+STEPS_230 = (60.0, 120.0, 180.0, 220.0, 230.0)
+
+
+def _amplifier_verdict(name, draw, seed):
+    unit = AMPLIFIERS[name]
+    # The lamp a technician takes on the advice for this unit.
+    advice = advise_lamp(unit, RIG_230_LAMPS, 230.0, source_resistance=WINDINGS_230, frequency=50.0)
+    lamp = RIG_230_LAMPS[advice[0].index]
+    true_lamp = reference.random_perturbed_lamp(lamp, np.random.default_rng(seed))
+    readings = reference.readings(
+        true_lamp,
+        unit.scaled(draw),
+        STEPS_230,
+        np.random.default_rng(seed),
+        source_resistance=WINDINGS_230,
+        frequency=50.0,
+    )
+    return judge(
+        lamp,
+        unit,
+        readings,
+        nominal_source_voltage=230.0,
+        source_resistance=WINDINGS_230,
+        frequency=50.0,
+    )
+
+
+@pytest.mark.parametrize("name", sorted(AMPLIFIERS))
+def test_a_healthy_amplifier_through_the_advised_lamp_passes(name):
+    verdict = _amplifier_verdict(name, 1.0, 10)
+    assert verdict.outcome == "pass", verdict.reasons
+
+
+@pytest.mark.parametrize("name", sorted(AMPLIFIERS))
+def test_an_amplifier_drawing_three_times_its_idle_fails(name):
+    verdict = _amplifier_verdict(name, 3.0, 11)
+    assert verdict.outcome == "fail"
+    assert verdict.codes[0] == DRAW_HIGH
