@@ -286,7 +286,7 @@ class RectifierLoad(ScalableLoad):
             "model": "rectifier",
             "summary": (
                 f"a {self.rectifier} {TOPOLOGY_WORDS[self.topology]} {feed}, "
-                f"{1e6 * self.capacitance:.3g} uF reservoir and {dc}{choke}, drawing "
+                f"{1e6 * self.capacitance:.4g} uF reservoir and {dc}{choke}, drawing "
                 f"{self._rated_power_of_one():.3g} W at {self.rated_voltage:g} V"
             ),
             "parameters": {
