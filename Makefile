@@ -31,6 +31,7 @@ bench: install
 	$(BIN)/python bench/physics_bench.py
 	$(BIN)/python bench/service_bench.py
 	$(BIN)/python bench/report_bench.py
+	$(BIN)/python bench/loads_bench.py
 
 lint: install
 	$(BIN)/ruff check .

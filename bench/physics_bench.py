@@ -36,11 +36,11 @@ def filament_temperature(lamp, voltage):
         return lamp.ambient_temperature
 
     def balance(temperature):
-        return (voltage**2 / float(lamp.resistance_at_temperature(temperature))
-                - float(lamp.power_loss(temperature)))
+        return voltage**2 / float(lamp.resistance_at_temperature(temperature)) - float(
+            lamp.power_loss(temperature)
+        )
 
-    return brentq(balance, lamp.ambient_temperature, TABLE_MAX_TEMPERATURE, xtol=1e-12,
-                  rtol=1e-15)
+    return brentq(balance, lamp.ambient_temperature, TABLE_MAX_TEMPERATURE, xtol=1e-12, rtol=1e-15)
 
 
 def lamp_current(lamp, voltage, factor=1.0):
@@ -57,8 +57,11 @@ def operating_point(lamp, resistance, source, factor=1.0):
         return 0.0, 0.0, 0.0
 
     def circuit(lamp_voltage):
-        return (lamp_voltage + lamp_current(lamp, lamp_voltage, factor) * (WINDINGS + resistance)
-                - source)
+        return (
+            lamp_voltage
+            + lamp_current(lamp, lamp_voltage, factor) * (WINDINGS + resistance)
+            - source
+        )
 
     lamp_voltage = brentq(circuit, 0.0, source, xtol=1e-13, rtol=1e-15)
     current = lamp_current(lamp, lamp_voltage, factor)
@@ -76,36 +79,53 @@ def timed(function, repeats):
 
 
 def show(label, vectorised, reference):
-    print(f"  {label:<44}{vectorised * 1e3:10.2f} ms   reference {reference * 1e3:10.1f} ms   "
-          f"ratio {reference / vectorised:8.0f}x")
+    print(
+        f"  {label:<44}{vectorised * 1e3:10.2f} ms   reference {reference * 1e3:10.1f} ms   "
+        f"ratio {reference / vectorised:8.0f}x"
+    )
 
 
 def check(label, value, limit, unit):
     ok = value <= limit
-    print(f"  {label:<44}{value:10.2e} {unit:<3} limit {limit:.0e} {unit}   "
-          f"{'ok' if ok else 'FAILED'}")
+    print(
+        f"  {label:<44}{value:10.2e} {unit:<3} limit {limit:.0e} {unit}   "
+        f"{'ok' if ok else 'FAILED'}"
+    )
     return ok
 
 
 def bench_sweep():
-    print(f"1. solve_series: {SWEEP_POINTS}-point sweep, 60 W 120 V gas lamp, 30 W resistive "
-          f"unit, {WINDINGS:g} ohm rig")
+    print(
+        f"1. solve_series: {SWEEP_POINTS}-point sweep, 60 W 120 V gas lamp, 30 W resistive "
+        f"unit, {WINDINGS:g} ohm rig"
+    )
     lamp = Lamp(120.0, 60.0)
     load = ResistiveLoad.from_rating(120.0, 30.0)
     source = np.linspace(0.5, 130.0, SWEEP_POINTS)
     solve_series(lamp, load, source, WINDINGS)  # warm the lamp's cached curve
     fast, result = timed(lambda: solve_series(lamp, load, source, WINDINGS), VECTORISED_REPEATS)
     slow, expected = timed(
-        lambda: np.array([operating_point(lamp, float(load.resistance), volts)
-                          for volts in source]), 1)
+        lambda: np.array(
+            [operating_point(lamp, float(load.resistance), volts) for volts in source]
+        ),
+        1,
+    )
     show("time per sweep (vectorised, median of 21)", fast, slow)
-    ok = check("max |load volts - reference|",
-               float(np.max(np.abs(result.load_voltage - expected[:, 0]))), SWEEP_AGREEMENT, "V")
-    print(f"  {'max |current - reference| / current':<44}"
-          f"{float(np.max(np.abs(result.current / expected[:, 1] - 1))):10.2e}")
+    ok = check(
+        "max |load volts - reference|",
+        float(np.max(np.abs(result.load_voltage - expected[:, 0]))),
+        SWEEP_AGREEMENT,
+        "V",
+    )
+    print(
+        f"  {'max |current - reference| / current':<44}"
+        f"{float(np.max(np.abs(result.current / expected[:, 1] - 1))):10.2e}"
+    )
     speed = slow / fast
-    print(f"  {'speed ratio':<44}{speed:10.0f}x   aim >= {SWEEP_SPEED_AIM:g}x   "
-          f"{'met' if speed >= SWEEP_SPEED_AIM else 'NOT MET'}")
+    print(
+        f"  {'speed ratio':<44}{speed:10.0f}x   aim >= {SWEEP_SPEED_AIM:g}x   "
+        f"{'met' if speed >= SWEEP_SPEED_AIM else 'NOT MET'}"
+    )
     return ok
 
 
@@ -125,10 +145,15 @@ def reference_judge_figures(lamp, load, readings):
         lowest = operating_point(lamp, resistance / heavy, source - source_span, low_factor)[0]
         highest = operating_point(lamp, resistance / light, source + source_span, high_factor)[0]
         draws = []
-        for volts, supply in ((measured, source), (measured + span, source - source_span),
-                              (measured - span, source + source_span)):
+        for volts, supply in (
+            (measured, source),
+            (measured + span, source - source_span),
+            (measured - span, source + source_span),
+        ):
+
             def miss(log_draw, volts=volts, supply=supply):
                 return operating_point(lamp, resistance / np.exp(log_draw), supply)[0] - volts
+
             least, most = np.log(rules.DRAW_SEARCH_RANGE)
             if miss(least) <= 0:  # reads at or above a unit drawing the least searched
                 draws.append(0.0)
@@ -136,8 +161,15 @@ def reference_judge_figures(lamp, load, readings):
                 draws.append(np.inf)
             else:
                 draws.append(np.exp(brentq(miss, least, most, xtol=1e-12)))
-        figures.append((healthy, lowest - (meter[0] * lowest + meter[1]),
-                        highest + (meter[0] * highest + meter[1]), healthy - doubled, *draws))
+        figures.append(
+            (
+                healthy,
+                lowest - (meter[0] * lowest + meter[1]),
+                highest + (meter[0] * highest + meter[1]),
+                healthy - doubled,
+                *draws,
+            )
+        )
     return np.array(figures)
 
 
@@ -146,31 +178,54 @@ def bench_judge():
     lamp = Lamp(120.0, 60.0)
     declared = ResistiveLoad.from_rating(120.0, 30.0)
     steps = np.linspace(5.0, 125.0, 25)
-    readings = [Reading(float(volts), round(operating_point(lamp, 320.0, volts)[0], 1))
-                for volts in steps]
+    readings = [
+        Reading(float(volts), round(operating_point(lamp, 320.0, volts)[0], 1)) for volts in steps
+    ]
 
     def run():
-        return judge(lamp, declared, readings, nominal_source_voltage=NOMINAL,
-                     source_resistance=WINDINGS)
+        return judge(
+            lamp, declared, readings, nominal_source_voltage=NOMINAL, source_resistance=WINDINGS
+        )
 
     run()
     fast, verdict = timed(run, VECTORISED_REPEATS)
-    slow, expected = timed(lambda: reference_judge_figures(lamp, declared, readings),
-                           REFERENCE_REPEATS)
+    slow, expected = timed(
+        lambda: reference_judge_figures(lamp, declared, readings), REFERENCE_REPEATS
+    )
     show("time per judgement (median of 21 / of 3)", fast, slow)
-    got = np.array([(item.predicted_load_voltage, item.load_voltage_low, item.load_voltage_high,
-                     item.sensitivity, item.inferred_draw, item.inferred_draw_low,
-                     item.inferred_draw_high) for item in verdict.readings])
-    ok = check("max |prediction, band, sensitivity - ref|",
-               float(np.max(np.abs(got[:, :4] - expected[:, :4]))), FIGURE_AGREEMENT, "V")
+    got = np.array(
+        [
+            (
+                item.predicted_load_voltage,
+                item.load_voltage_low,
+                item.load_voltage_high,
+                item.sensitivity,
+                item.inferred_draw,
+                item.inferred_draw_low,
+                item.inferred_draw_high,
+            )
+            for item in verdict.readings
+        ]
+    )
+    ok = check(
+        "max |prediction, band, sensitivity - ref|",
+        float(np.max(np.abs(got[:, :4] - expected[:, :4]))),
+        FIGURE_AGREEMENT,
+        "V",
+    )
     interior = np.isfinite(expected[:, 4:]) & (expected[:, 4:] > 0)
     same_limits = np.array_equal(got[:, 4:][~interior], expected[:, 4:][~interior])
-    print(f"  {'draws beyond the search range (0 or inf)':<44}{np.sum(~interior):10d}   "
-          f"{'same as reference' if same_limits else 'DIFFERENT FROM REFERENCE'}")
+    print(
+        f"  {'draws beyond the search range (0 or inf)':<44}{np.sum(~interior):10d}   "
+        f"{'same as reference' if same_limits else 'DIFFERENT FROM REFERENCE'}"
+    )
     ok = ok and same_limits
-    ok &= check("max |inferred draw / reference - 1|",
-                float(np.max(np.abs(got[:, 4:][interior] / expected[:, 4:][interior] - 1))),
-                DRAW_AGREEMENT, "")
+    ok &= check(
+        "max |inferred draw / reference - 1|",
+        float(np.max(np.abs(got[:, 4:][interior] / expected[:, 4:][interior] - 1))),
+        DRAW_AGREEMENT,
+        "",
+    )
     print(f"  {'outcome':<44}{verdict.outcome} {verdict.codes}")
     return ok
 
@@ -200,17 +255,24 @@ def bench_advice():
     # The reference covers 7 of the 8 candidates; scale its time to 8 for the ratio.
     show("time per advice (median of 21 / of 3)", fast, slow * 8 / 7)
     by_index = sorted(advice, key=lambda entry: entry.index)[:-1]
-    got = np.array([(entry.fault_current, entry.load_voltage, entry.sensitivity)
-                    for entry in by_index])
-    ok = check("max |fault A, unit V, sensitivity - ref|",
-               float(np.max(np.abs(got - expected))), FIGURE_AGREEMENT, "")
+    got = np.array(
+        [(entry.fault_current, entry.load_voltage, entry.sensitivity) for entry in by_index]
+    )
+    ok = check(
+        "max |fault A, unit V, sensitivity - ref|",
+        float(np.max(np.abs(got - expected))),
+        FIGURE_AGREEMENT,
+        "",
+    )
     print(f"  {'advice':<44}{advice[0].label} ({advice[0].suitability})")
     return ok
 
 
 def main():
-    print(f"shop.physics benchmark (numpy {np.__version__}, scipy {scipy.__version__}); "
-          "times are wall-clock on this machine")
+    print(
+        f"shop.physics benchmark (numpy {np.__version__}, scipy {scipy.__version__}); "
+        "times are wall-clock on this machine"
+    )
     results = [bench_sweep(), bench_judge(), bench_advice()]
     if not all(results):
         print("AGREEMENT CHECK FAILED")

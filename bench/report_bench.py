@@ -42,9 +42,14 @@ def snapshot_with_readings(count: int) -> dict:
     test = snapshot["tests"][0]
     template = test["readings"][0]
     test["readings"] = [
-        {**copy.deepcopy(template), "sequence": index + 1,
-         "source_voltage": round(5 + 4.6 * index, 1), "load_voltage": round(4.3 + 3.9 * index, 1),
-         "band_low": round(4.0 + 3.7 * index, 1), "band_high": round(4.6 + 4.1 * index, 1)}
+        {
+            **copy.deepcopy(template),
+            "sequence": index + 1,
+            "source_voltage": round(5 + 4.6 * index, 1),
+            "load_voltage": round(4.3 + 3.9 * index, 1),
+            "band_low": round(4.0 + 3.7 * index, 1),
+            "band_high": round(4.6 + 4.1 * index, 1),
+        }
         for index in range(count)
     ]
     return snapshot
@@ -53,11 +58,20 @@ def snapshot_with_readings(count: int) -> dict:
 def plain_document() -> bytes:
     """The baseline: one page of Helvetica paragraphs, as reportlab lays out the simplest PDF."""
     buffer = io.BytesIO()
-    document = SimpleDocTemplate(buffer, leftMargin=MARGIN, rightMargin=MARGIN, topMargin=MARGIN,
-                                 bottomMargin=MARGIN, title="Baseline", invariant=1)
+    document = SimpleDocTemplate(
+        buffer,
+        leftMargin=MARGIN,
+        rightMargin=MARGIN,
+        topMargin=MARGIN,
+        bottomMargin=MARGIN,
+        title="Baseline",
+        invariant=1,
+    )
     words = "A functional check of the unit under a series-lamp current limiter. " * 4
-    document.build([Paragraph("Baseline document", STYLES["title"])]
-                   + [Paragraph(words, STYLES["body"]) for _ in range(20)])
+    document.build(
+        [Paragraph("Baseline document", STYLES["title"])]
+        + [Paragraph(words, STYLES["body"]) for _ in range(20)]
+    )
     return buffer.getvalue()
 
 
@@ -97,16 +111,26 @@ def main() -> int:
         render_certificate(snapshot)
     row_each = (time.perf_counter() - start) * 1000 / IN_A_ROW
 
-    print(f"Report benchmark (reportlab {reportlab.Version}, Python {sys.version.split()[0]}); "
-          f"certificate of {READINGS} readings, {len(first) / 1024:.0f} KiB")
-    print(f"  {'plain one-page document':<36} median {baseline_median:7.2f} ms  "
-          f"p95 {baseline_p95:7.2f} ms  (baseline)")
-    print(f"  {'one certificate':<36} median {one_median:7.2f} ms  p95 {one_p95:7.2f} ms  "
-          f"ratio to baseline {one_median / baseline_median:5.1f}x  (aim: < {AIM_MS:g} ms)")
-    print(f"  {f'{IN_A_ROW} certificates in a row, each':<36} mean   {row_each:7.2f} ms  "
-          f"{'':16}ratio to baseline {row_each / baseline_median:5.1f}x  (aim: < {AIM_MS:g} ms)")
-    print(f"  {'the plot, built and drawn alone':<36} median {plot_median:7.2f} ms  "
-          f"{'':16}share of a certificate {plot_median / one_median:5.1%}")
+    print(
+        f"Report benchmark (reportlab {reportlab.Version}, Python {sys.version.split()[0]}); "
+        f"certificate of {READINGS} readings, {len(first) / 1024:.0f} KiB"
+    )
+    print(
+        f"  {'plain one-page document':<36} median {baseline_median:7.2f} ms  "
+        f"p95 {baseline_p95:7.2f} ms  (baseline)"
+    )
+    print(
+        f"  {'one certificate':<36} median {one_median:7.2f} ms  p95 {one_p95:7.2f} ms  "
+        f"ratio to baseline {one_median / baseline_median:5.1f}x  (aim: < {AIM_MS:g} ms)"
+    )
+    print(
+        f"  {f'{IN_A_ROW} certificates in a row, each':<36} mean   {row_each:7.2f} ms  "
+        f"{'':16}ratio to baseline {row_each / baseline_median:5.1f}x  (aim: < {AIM_MS:g} ms)"
+    )
+    print(
+        f"  {'the plot, built and drawn alone':<36} median {plot_median:7.2f} ms  "
+        f"{'':16}share of a certificate {plot_median / one_median:5.1%}"
+    )
     return 0
 
 

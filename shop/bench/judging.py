@@ -5,15 +5,13 @@ from __future__ import annotations
 import math
 from dataclasses import asdict
 
-from shop.physics import judgement
+from shop.physics import PHYSICS_VERSION, judgement
 from shop.physics.materials import data_fingerprint
 
 from .declared_load import physics_load
 from .models import Instrument, PowerUpTest, Reading, Verdict
 from .physics_inputs import limiter_parameters, modelled_ambient, physics_limiter
 
-# Bumped whenever the physics changes what a verdict says for the same inputs.
-PHYSICS_VERSION = "1.0.0"
 READING_FIELDS = (
     "source_voltage",
     "load_voltage",
@@ -61,11 +59,13 @@ def judge_inputs(inputs: dict) -> judgement.Verdict:
         options.update(
             meter_relative_accuracy=inputs["voltmeter"]["relative"],
             meter_absolute_accuracy=inputs["voltmeter"]["absolute"],
+            voltmeter_response=inputs["voltmeter"]["response"],
         )
     if inputs["ammeter"]:
         options.update(
             current_relative_accuracy=inputs["ammeter"]["relative"],
             current_absolute_accuracy=inputs["ammeter"]["absolute"],
+            ammeter_response=inputs["ammeter"]["response"],
         )
     return judgement.judge(
         physics_limiter(inputs["limiter"], inputs["ambient_temperature"]),

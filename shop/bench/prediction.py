@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from shop.core.safety import caveats
-from shop.physics.circuit import solve_series
+from shop.physics.circuit import NO_OPERATING_POINT, solve_series
 from shop.physics.judgement import LAMP_POWER_TOLERANCE, LOAD_TOLERANCE
 from shop.physics.loads import ResistiveLoad
 
@@ -24,9 +24,10 @@ def _scaled_limiter(limiter: list[dict], factor: float, ambient: float):
 
 
 def _rounded(values) -> list:
+    """JSON-ready values; NaN (no operating point) and infinity become null."""
     array = np.asarray(values)
     if array.dtype.kind in "fc":
-        return [round(float(v), ROUND_DIGITS) for v in array]
+        return [round(float(v), ROUND_DIGITS) if np.isfinite(v) else None for v in array]
     return [str(v) for v in array]
 
 
@@ -81,6 +82,7 @@ def predict(
         "load_power": _rounded(healthy.load_power),
         "filament_temperature": _rounded(healthy.filament_temperature),
         "glow": _rounded(healthy.glow),
+        "state": _rounded(healthy.state),
         "sensitivity": _rounded(healthy.load_voltage - doubled.load_voltage),
         "fault_current_cap": {
             "source_voltage": full_source_voltage,
@@ -95,6 +97,7 @@ def predict(
         },
         "tolerances": {"lamp_power": lamp_power_tolerance, "declared_load": load_tolerance},
         "model": load.describe(),
+        "cannot_run": bool(np.any(np.asarray(healthy.state) == NO_OPERATING_POINT)),
         "caveats": caveats(),
     }
 

@@ -80,16 +80,22 @@ class PredictionSerializer(serializers.Serializer):
     """Curves of a healthy unit over the sweep, its band, the fault cap and the caveats."""
 
     source_voltage = serializers.ListField(child=serializers.FloatField())
-    load_voltage = serializers.ListField(child=serializers.FloatField())
-    load_voltage_low = serializers.ListField(child=serializers.FloatField())
-    load_voltage_high = serializers.ListField(child=serializers.FloatField())
-    current = serializers.ListField(child=serializers.FloatField())
-    lamp_voltage = serializers.ListField(child=serializers.FloatField())
-    lamp_power = serializers.ListField(child=serializers.FloatField())
-    load_power = serializers.ListField(child=serializers.FloatField())
-    filament_temperature = serializers.ListField(child=serializers.FloatField())
+    load_voltage = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    load_voltage_low = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    load_voltage_high = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    current = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    lamp_voltage = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    lamp_power = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    load_power = serializers.ListField(child=serializers.FloatField(allow_null=True))
+    filament_temperature = serializers.ListField(child=serializers.FloatField(allow_null=True))
     glow = serializers.ListField(child=serializers.CharField())
-    sensitivity = serializers.ListField(child=serializers.FloatField())
+    state = serializers.ListField(
+        child=serializers.CharField(),
+        help_text="steady, off (below a switch-mode unit's start voltage) or "
+        "no_operating_point (it cannot draw its power through this lamp; figures are null).",
+    )
+    cannot_run = serializers.BooleanField()
+    sensitivity = serializers.ListField(child=serializers.FloatField(allow_null=True))
     fault_current_cap = FaultCapSerializer()
     tolerances = serializers.DictField(child=serializers.FloatField())
     model = serializers.DictField()

@@ -194,6 +194,11 @@ def prediction_for_request(data: dict) -> dict:
             "The lamp is rated well below this rig's mains: at full source it "
             "runs above its rating and may fail."
         )
+    if answer["cannot_run"]:
+        warnings.append(
+            "The unit cannot draw its rated power through this lamp at some steps (figures are "
+            "null there): expect it to cycle or not start. Use a larger lamp."
+        )
     answer["warnings"] = warnings
     if rig["rig"] is not None:
         answer["advice"] = _advice_entries(rig["rig"], data["declared_load"])

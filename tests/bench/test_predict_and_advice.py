@@ -87,3 +87,23 @@ def test_lamp_advice_needs_a_rig(client_for, unit):
     response = client_for("technician").get(f"/api/units/{unit.pk}/lamp-advice/")
     assert response.status_code == 400
     assert response.json()["error"]["field"] == "rig"
+
+
+def test_a_switch_mode_unit_that_cannot_run_through_the_lamp_is_said_not_a_500(client_for, db):
+    body = {
+        **SPEC,
+        "lamp": {**SPEC["lamp"], "rated_power": 25},
+        "declared_load": {
+            "kind": "constant_power",
+            "parameters": {"power": 90, "voltage": 120},
+            "basis": "nameplate",
+        },
+    }
+    response = client_for("technician").post("/api/predict/", body, format="json")
+    assert response.status_code == 200, response.content
+    answer = response.json()
+    assert answer["cannot_run"] is True
+    assert "no_operating_point" in answer["state"]
+    assert any("cycle or not start" in w for w in answer["warnings"])
+    stuck = answer["state"].index("no_operating_point")
+    assert answer["load_voltage"][stuck] is None
