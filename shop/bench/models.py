@@ -275,8 +275,9 @@ class PowerUpTestQuerySet(models.QuerySet):
 
 def _refuse_if_closed(closed: bool) -> None:
     if closed:
-        raise ValidationError("A closed power-up test and its readings never change; "
-                              "a correction is a new test.")
+        raise ValidationError(
+            "A closed power-up test and its readings never change; a correction is a new test."
+        )
 
 
 class PowerUpTest(Versioned):
