@@ -14,7 +14,7 @@ from shop.intake.models import Unit
 from shop.physics.advice import advise_lamp
 
 from . import judging, prediction
-from .declared_load import nameplate_document, physics_load
+from .declared_load import physics_load, unit_model_document
 from .models import (
     REFUSED_TECHNOLOGIES,
     CalibrationRecord,
@@ -241,7 +241,7 @@ def _advice_entries(rig: Rig, document: dict) -> list[dict]:
 
 def lamp_advice(unit: Unit, rig: Rig) -> dict:
     """Rank the rig's lamps and banks for the unit's nameplate load."""
-    document = nameplate_document(unit)
+    document = unit_model_document(unit)
     return {
         "unit": unit.pk,
         "rig": rig.pk,

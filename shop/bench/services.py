@@ -17,7 +17,7 @@ from shop.physics.lamp import Lamp as PhysicsLamp
 from shop.physics.meters import fit_meter_correction
 
 from . import judging
-from .declared_load import nameplate_document, validated_document
+from .declared_load import unit_model_document, validated_document
 from .models import (
     REFUSED_TECHNOLOGIES,
     CalibrationRecord,
@@ -347,7 +347,7 @@ def powerup_open(
     document = (
         validated_document(declared_load)
         if declared_load is not None
-        else nameplate_document(job.unit)
+        else unit_model_document(job.unit)
     )
     test = PowerUpTest(
         job=job,

@@ -127,8 +127,15 @@ def test_the_default_declared_load_comes_from_the_nameplate(testing_job, rig, la
         "/api/powerups/", open_body(testing_job, rig, lamps[60]), format="json"
     )
     document = response.json()["declared_load"]
-    assert document["basis"] == "nameplate"
-    assert document["parameters"] == {"power": 60.0, "voltage": 120.0}
+    assert (document["kind"], document["basis"]) == ("nameplate", "nameplate")
+    assert document["parameters"] == {
+        "power": 60.0,
+        "voltage": 120.0,
+        "power_unit": "W",
+        "category": "radio",
+        "construction": "isolating_transformer",
+        "frequency": "unknown",
+    }
 
 
 def test_an_amplifier_nameplate_default_says_it_idles_lower(
