@@ -70,10 +70,14 @@ def _tests_for(job: Job, tests: list[PowerUpTest] | None) -> list[PowerUpTest]:
         strangers = wanted - {test.pk for test in job.powerups.all()}
         if strangers:
             raise ApplicationError("Those tests belong to another job.", field="tests")
-        still_open = [t for t in tests if t.status != TestStatus.CLOSED]
+        still_open = list(
+            job.powerups.filter(pk__in=wanted)
+            .exclude(status=TestStatus.CLOSED)
+            .values_list("pk", flat=True)
+        )
         if still_open:
             raise Conflict(
-                f"Test {still_open[0].pk} is still open: close it first.",
+                f"Test {still_open[0]} is still open: close it first.",
                 field="tests",
                 code="test_open",
             )

@@ -150,8 +150,11 @@ def _declared_load(document: dict) -> dict:
         said.append(f"voltage selector at {configuration['voltage_selector']}")
     if configuration.get("notes"):
         said.append(configuration["notes"])
+    described = physics_load(document).describe()
     return {
-        "summary": physics_load(document).describe()["summary"],
+        "summary": described["summary"],
+        "model": described["model"],
+        "assumptions": list(described.get("assumptions", [])),
         "basis": document["basis"].replace("_", " "),
         "configuration": "; ".join(said) or "as received",
     }

@@ -258,6 +258,17 @@ def _set_up(test: dict, width: float) -> list:
             f"{text(load.get('summary'))}; basis: {text(load.get('basis'))}; "
             f"unit as tested: {text(load.get('configuration'))}",
         ),
+        *(
+            [
+                (
+                    "Model used",
+                    f"{text(load.get('model'))}; assumed: "
+                    + "; ".join(text(a) for a in load.get("assumptions", [])),
+                )
+            ]
+            if load.get("assumptions")
+            else []
+        ),
         ("Ambient", text(test.get("ambient_temperature"))),
     ]
     instruments = [

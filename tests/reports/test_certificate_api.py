@@ -203,6 +203,44 @@ def test_the_issued_pdf_is_stored_once_and_a_changed_file_is_refused(certificate
     response = lead.get(f"/api/certificates/{certificate.pk}/pdf/")
     assert response.status_code == 409
     assert response.json()["error"]["code"] == "pdf_altered"
-    body = client_for(None).get(f"/verify/{certificate.number}/", {
-        "code": certificate.verification_code, "format": "json"}).json()
+    body = (
+        client_for(None)
+        .get(
+            f"/verify/{certificate.number}/",
+            {"code": certificate.verification_code, "format": "json"},
+        )
+        .json()
+    )
     assert body["status"] == "tampered"
+
+
+def test_a_certificate_names_the_unit_model_and_its_assumptions(
+    testing_job, rig, lamps, staff, client_for
+):
+    from shop.bench import services as bench
+
+    test = bench.powerup_open(
+        job=testing_job, rig=rig, lamp=lamps[100], technician=staff["technician"]
+    )
+    assert test.declared_load["kind"] == "nameplate"
+    bench.readings_add(
+        test=test,
+        actor=staff["technician"],
+        readings=[
+            {"source_voltage": 60.0, "load_voltage": 50.0, "glow_seen": "dark"},
+            {"source_voltage": 120.0, "load_voltage": 104.0, "glow_seen": "faint"},
+        ],
+    )
+    bench.powerup_close(test=test, actor=staff["technician"])
+    certificate = services.certificate_issue(job=testing_job, issued_by=staff["lead"], tests=[test])
+    load = selectors_snapshot(certificate)["tests"][0]["declared_load"]
+    assert load["assumptions"]
+    text = pdf_text(client_for("lead").get(f"/api/certificates/{certificate.pk}/pdf/").content)
+    assert "Model used" in text
+    assert " ".join(load["assumptions"][0].split())[:40] in text
+
+
+def selectors_snapshot(certificate):
+    import json
+
+    return json.loads(certificate.snapshot)
