@@ -9,6 +9,7 @@ from django.urls import reverse
 
 from shop.bench.declared_load import physics_load
 from shop.bench.models import Instrument, PowerUpTest
+from shop.bench.prediction import running_curve
 from shop.bench.selectors import calibration_state, healthy_curves
 from shop.core.safety import LIVE_CHASSIS_NOTE, caveats
 from shop.intake.models import Job
@@ -203,10 +204,7 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "outcome_words": OUTCOME_WORDS[verdict.outcome],
         "reasons": [{"code": r["code"], "message": r["message"]} for r in verdict.reasons],
         "readings": readings,
-        "curve": {
-            key: curves[key]
-            for key in ("source_voltage", "load_voltage", "load_voltage_low", "load_voltage_high")
-        },
+        "curve": running_curve(curves),
         "fault_cap": {
             "current": cap["current"],
             "source_voltage": cap["source_voltage"],

@@ -34,7 +34,8 @@ HEALTHY_WORDS = "healthy unit (predicted)"
 
 
 def marker(shape: str, x: float, y: float, colour, radius: float = MARKER_RADIUS) -> Group:
-    """One reading's mark centred on (x, y): hollow circle, triangle, cross or filled square."""
+    """One reading's mark centred on (x, y): hollow circle or diamond, triangle, cross or
+    filled square."""
     ink = colors.HexColor(colour)
     group = Group()
     if shape == "circle":
@@ -69,6 +70,15 @@ def marker(shape: str, x: float, y: float, colour, radius: float = MARKER_RADIUS
             Polygon(
                 [x, y + apex, x - radius, y - apex, x + radius, y - apex],
                 fillColor=ink,
+                strokeColor=ink,
+                strokeWidth=MARKER_STROKE,
+            )
+        )
+    elif shape == "diamond":
+        group.add(
+            Polygon(
+                [x, y + radius, x + radius, y, x, y - radius, x - radius, y],
+                fillColor=None,
                 strokeColor=ink,
                 strokeWidth=MARKER_STROKE,
             )

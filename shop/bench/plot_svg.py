@@ -18,6 +18,7 @@ MARKERS = {
     "draw_above_band": ("triangle_up", "#8a5a00", "draws more than the band"),
     "draw_high": ("cross", "#a11d21", "draws far more than declared"),
     "draw_near_zero": ("square", "#a11d21", "draws almost nothing"),
+    "load_cannot_run": ("diamond", "#5a4a8a", "a healthy unit cannot run here"),
 }
 MARKER_SIZE = 5.5
 
@@ -55,6 +56,9 @@ def _marker(parent, shape: str, x: float, y: float, colour: str) -> None:
             fill="none",
             **{**common, "stroke-width": "2.4"},
         )
+    elif shape == "diamond":
+        points = f"{x:.1f},{y - s:.1f} {x + s:.1f},{y:.1f} {x:.1f},{y + s:.1f} {x - s:.1f},{y:.1f}"
+        ET.SubElement(parent, "polygon", points=points, fill="none", **common)
     else:
         sign = -1 if shape == "triangle_up" else 1
         points = (
@@ -66,7 +70,7 @@ def _marker(parent, shape: str, x: float, y: float, colour: str) -> None:
 
 def render_svg(*, prediction: dict, readings: list[dict], title: str) -> str:
     """Draw the plot. `readings` are {source_voltage, load_voltage, status} dicts."""
-    x_max = max([prediction["source_voltage"][-1]] + [r["source_voltage"] for r in readings])
+    x_max = max(prediction["source_voltage"] + [r["source_voltage"] for r in readings] + [1.0])
     y_max = max(prediction["load_voltage_high"] + [r["load_voltage"] for r in readings] + [1.0])
     x_step, y_step = _nice_step(x_max), _nice_step(y_max)
     x_top, y_top = math.ceil(x_max / x_step) * x_step, math.ceil(y_max / y_step) * y_step

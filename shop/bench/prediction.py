@@ -102,6 +102,23 @@ def predict(
     }
 
 
+CURVE_KEYS = ("source_voltage", "load_voltage", "load_voltage_low", "load_voltage_high")
+
+
+def running_curve(curves: dict) -> dict:
+    """The healthy line and band only at steps where the unit has an operating point.
+
+    A switch-mode unit that cannot draw its power through the lamp has null figures there;
+    plots leave those steps out rather than draw a line through them.
+    """
+    rows = [
+        row
+        for row in zip(*(curves[key] for key in CURVE_KEYS))
+        if all(value is not None for value in row)
+    ]
+    return {key: [row[i] for row in rows] for i, key in enumerate(CURVE_KEYS)}
+
+
 def sweep(full_source_voltage: float, points: int = DEFAULT_SWEEP_POINTS) -> np.ndarray:
     """Evenly spaced source volts from zero to full source."""
     return np.linspace(0.0, full_source_voltage, points)

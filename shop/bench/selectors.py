@@ -109,6 +109,7 @@ def powerup_plot(test: PowerUpTest) -> str:
     else:
         statuses = []
     curves = healthy_curves(test, inputs, PLOT_POINTS)
+    curves.update(prediction.running_curve(curves))
     points = [
         {"source_voltage": r.source_voltage, "load_voltage": r.load_voltage, "status": status}
         for r, status in zip(readings, statuses)

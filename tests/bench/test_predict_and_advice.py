@@ -107,3 +107,52 @@ def test_a_switch_mode_unit_that_cannot_run_through_the_lamp_is_said_not_a_500(c
     assert any("cycle or not start" in w for w in answer["warnings"])
     stuck = answer["state"].index("no_operating_point")
     assert answer["load_voltage"][stuck] is None
+
+
+def test_the_plot_of_a_unit_that_cannot_run_leaves_those_steps_out(
+    testing_job, rig, lamps, client_for, staff
+):
+    import xml.etree.ElementTree as ET
+
+    from shop.bench import services as bench
+
+    test = bench.powerup_open(
+        job=testing_job,
+        rig=rig,
+        lamp=lamps[25],
+        technician=staff["technician"],
+        declared_load={
+            "kind": "constant_power",
+            "parameters": {"power": 90, "voltage": 120},
+            "basis": "nameplate",
+        },
+    )
+    bench.readings_add(
+        test=test,
+        actor=staff["technician"],
+        readings=[
+            {
+                "source_voltage": 120.0,
+                "load_voltage": 40.0,
+                "glow_seen": "bright",
+                "behaviour_seen": "cycling",
+            }
+        ],
+    )
+    response = client_for("technician").get(f"/api/powerups/{test.pk}/plot.svg")
+    assert response.status_code == 200
+    root = ET.fromstring(response.content)
+    assert "None" not in response.content.decode()
+    assert root.find(".//{http://www.w3.org/2000/svg}g[@class='readings']") is not None
+
+
+def test_every_reading_status_has_a_marker_both_plots_can_draw():
+    from reports.pdf.plot import marker
+    from shop.bench.plot_svg import MARKERS
+    from shop.physics.judgement import READING_STATUSES
+
+    assert set(READING_STATUSES) <= set(MARKERS)
+    shapes = [shape for shape, _, _ in MARKERS.values()]
+    assert len(set(shapes)) == len(shapes)  # distinct in shape, not only colour
+    for shape, colour, _ in MARKERS.values():
+        assert marker(shape, 10.0, 10.0, colour).contents
