@@ -6,7 +6,7 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed-stamp
 PYTEST_ARGS ?=
 
-.PHONY: install test demo serve bench lint format clean
+.PHONY: install test demo serve bench bench-large lint format clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -32,6 +32,14 @@ bench: install
 	$(BIN)/python bench/service_bench.py
 	$(BIN)/python bench/report_bench.py
 	$(BIN)/python bench/loads_bench.py
+	$(MAKE) bench-large
+
+# The large-shop benchmarks: seeds 10,000 jobs per database (SQLite and PostgreSQL) and serves
+# them with gunicorn under wrk (apt-get install wrk); about 25 minutes in all.
+bench-large: install
+	$(BIN)/python -m pip install --quiet -e '.[serve]'
+	$(BIN)/python bench/load_bench.py
+	$(BIN)/python bench/backup_bench.py
 
 lint: install
 	$(BIN)/ruff check .
