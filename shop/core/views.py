@@ -20,6 +20,12 @@ class VersionedModelViewSet(
 
     permission_classes = [HasShopRole]
 
+    def filter_queryset(self, queryset):
+        # Query-string filters, search and ordering shape lists; a detail read skips them.
+        if self.action != "list":
+            return queryset
+        return super().filter_queryset(queryset)
+
     def retrieve(self, request, *args, **kwargs):
         return self.versioned_response(self.get_object())
 
