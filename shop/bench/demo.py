@@ -82,17 +82,15 @@ def _generated_readings(lamp: Lamp, rig: Rig, document: dict, entry: dict):
     nominal = PhysicsLamp(float(lamp.rated_voltage), float(lamp.rated_power))
     true_lamp = random_perturbed_lamp(nominal, rng)
     declared = physics_load(document)
-    impedance = (
-        float("inf")
-        if draw == 0
-        else complex(declared.scaled(draw).impedance(0.0, float(rig.mains_frequency)))
-    )
+    # The unit as it really is: the declared model drawing `draw` times as much (0: open).
+    unit = float("inf") if draw == 0 else declared.scaled(draw)
     taken = readings(
         true_lamp,
-        impedance,
+        unit,
         [float(s) for s in entry["steps"]],
         rng,
         source_resistance=float(rig.internal_resistance),
+        frequency=float(rig.mains_frequency),
         with_current=entry.get("with_current", False),
     )
     return [{k: v for k, v in asdict(r).items() if v is not None} for r in taken]
@@ -113,7 +111,7 @@ def load_demo_bench(data: dict, staff: dict, units_by_key: dict) -> list[str]:
             rig=rig,
             lamp=lamp,
             technician=staff[entry["by"]],
-            declared_load=entry["declared_load"],
+            declared_load=entry.get("declared_load"),
             load_meter=meters[entry["meter"]],
             current_meter=meters.get(entry.get("current_meter")),
             notes=f"Demo scenario: {entry['scenario']}.",

@@ -27,7 +27,7 @@ def test_demo_shop_loads_every_state_and_role(db):
 
 def test_demo_bench_has_closed_tests_in_every_outcome(db):
     call_command("demo_load", stdout=StringIO())
-    assert PowerUpTest.objects.filter(status="closed").count() == 7
+    assert PowerUpTest.objects.filter(status="closed").count() == 9
     assert set(Verdict.objects.values_list("outcome", flat=True)) == {
         "pass",
         "marginal",
@@ -40,3 +40,20 @@ def test_loading_twice_adds_nothing(db):
     call_command("demo_load", stdout=StringIO())
     call_command("demo_load", stdout=StringIO())
     assert Job.objects.count() == 12
+
+
+def test_demo_valve_radio_and_switch_mode_unit_are_judged_through_their_own_models(db):
+    import json
+
+    from reports.models import Certificate
+    from shop.bench.declared_load import physics_load
+
+    call_command("demo_load", stdout=StringIO())
+    radio = PowerUpTest.objects.get(job__unit__model_name="Console 7")
+    adapter = PowerUpTest.objects.get(job__unit__construction="switch_mode")
+    assert radio.declared_load["kind"] == adapter.declared_load["kind"] == "nameplate"
+    assert "rectifier" in physics_load(radio.declared_load).describe()["summary"]
+    assert radio.verdict.outcome == adapter.verdict.outcome == "pass"
+    sample = json.loads(Certificate.objects.get(job=radio.job).snapshot)
+    assert "rectifier" in sample["tests"][0]["declared_load"]["summary"]
+    assert sample["tests"][0]["declared_load"]["assumptions"]
