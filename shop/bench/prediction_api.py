@@ -71,6 +71,26 @@ class FaultCapSerializer(serializers.Serializer):
     sentence = serializers.CharField()
 
 
+class GlowMomentSerializer(serializers.Serializer):
+    time = serializers.FloatField(help_text="Since switch-on [s].")
+    glow = serializers.CharField()
+
+
+class SwitchOnSerializer(serializers.Serializer):
+    """Switching a healthy unit on at the crest of full source."""
+
+    source_voltage = serializers.FloatField()
+    inrush_peak_current = serializers.FloatField(help_text="[A], instantaneous")
+    steady_current = serializers.FloatField(help_text="[A RMS]")
+    settle_time = serializers.FloatField(
+        allow_null=True,
+        help_text="Until the current stays within 10 % of steady [s]; null if "
+        "it has not settled in the time followed.",
+    )
+    behaviour = serializers.CharField(help_text="flash_then_dims or steady")
+    glow_over_time = GlowMomentSerializer(many=True)
+
+
 class CaveatSerializer(serializers.Serializer):
     code = serializers.CharField()
     text = serializers.CharField()
@@ -101,6 +121,7 @@ class PredictionSerializer(serializers.Serializer):
     model = serializers.DictField()
     advice = serializers.ListField(child=serializers.DictField(), required=False)
     warnings = serializers.ListField(child=serializers.CharField())
+    switch_on = SwitchOnSerializer(allow_null=True)
     caveats = CaveatSerializer(many=True)
 
 

@@ -201,6 +201,14 @@ def prediction_for_request(data: dict) -> dict:
             "null there): expect it to cycle or not start. Use a larger lamp."
         )
     answer["warnings"] = warnings
+    answer["switch_on"] = prediction.switch_on_summary(
+        limiter=limiter,
+        declared_load=data["declared_load"],
+        source_voltage=rig["full"],
+        source_resistance=rig["source_resistance"],
+        frequency=rig["frequency"],
+        ambient_temperature=data["ambient_temperature"],
+    )
     if rig["rig"] is not None:
         answer["advice"] = _advice_entries(rig["rig"], data["declared_load"])
     return answer

@@ -156,3 +156,24 @@ def test_every_reading_status_has_a_marker_both_plots_can_draw():
     assert len(set(shapes)) == len(shapes)  # distinct in shape, not only colour
     for shape, colour, _ in MARKERS.values():
         assert marker(shape, 10.0, 10.0, colour).contents
+
+
+def test_the_prediction_says_how_the_lamp_behaves_at_switch_on(client_for, db):
+    # A unit of 10 ohm leaves the cold lamp to limit the inrush.
+    body = {
+        **SPEC,
+        "declared_load": {
+            "kind": "resistive",
+            "parameters": {"resistance": 10},
+            "basis": "estimate",
+        },
+    }
+    answer = client_for("technician").post("/api/predict/", body, format="json").json()
+    switch_on = answer["switch_on"]
+    # A cold filament's inrush is many times its running current (DESIGN.md 3.2; the
+    # 10-15x of rated current for a lamp alone is checked in tests/physics).
+    assert switch_on["inrush_peak_current"] > 3 * switch_on["steady_current"]
+    # Into a fixed resistance the filament only warms towards its steady glow: no flash.
+    assert switch_on["behaviour"] == "steady"
+    assert 0 < switch_on["settle_time"] < 0.5
+    assert switch_on["glow_over_time"][0]["time"] > 0
