@@ -7,10 +7,11 @@ black-and-white print.
 from __future__ import annotations
 
 import math
+import textwrap
 import xml.etree.ElementTree as ET
 
-WIDTH, HEIGHT = 640, 440
-LEFT, RIGHT, TOP, BOTTOM = 64, 20, 36, 112
+WIDTH, HEIGHT = 640, 482
+LEFT, RIGHT, TOP, BOTTOM = 64, 20, 36, 154
 # Status -> (shape, colour, legend words). Shapes differ so that colour is never needed.
 MARKERS = {
     "in_band": ("circle", "#1a6b3a", "in band"),
@@ -21,6 +22,9 @@ MARKERS = {
     "load_cannot_run": ("diamond", "#5a4a8a", "a healthy unit cannot run here"),
 }
 MARKER_SIZE = 5.5
+# The declared load in words, wrapped under the legend.
+MODEL_LINE_WIDTH = 100
+MODEL_LINES = 3
 
 
 def _nice_step(span: float) -> float:
@@ -188,7 +192,16 @@ def render_svg(*, prediction: dict, readings: list[dict], title: str) -> str:
         f"Fault-current cap: a dead short in the unit would draw at most {cap['current']:.3f} A",
         f"at {cap['source_voltage']:g} V through this lamp, which would then glow {cap['glow']}.",
     )
-    for offset, line in zip((36, 50), lines):
+    model = textwrap.wrap(f"Declared load: {prediction['model']['summary']}", MODEL_LINE_WIDTH)
+    if len(model) > MODEL_LINES:
+        model = [
+            *model[: MODEL_LINES - 1],
+            textwrap.shorten(
+                " ".join(model[MODEL_LINES - 1 :]), MODEL_LINE_WIDTH, placeholder=" ..."
+            ),
+        ]
+    lines = (*lines, *model)
+    for offset, line in zip(range(36, 36 + 14 * len(lines), 14), lines):
         ET.SubElement(
             legend, "text", x=str(LEFT), y=str(y + offset), **{"class": "fault-cap"}
         ).text = line

@@ -144,6 +144,7 @@ def test_the_plot_is_well_formed_svg_with_axes_band_and_one_marker_per_reading(
     markers = root.find(f".//{SVG}g[@class='readings']")
     assert len(list(markers)) == len(readings)
     assert any(t and t.startswith("Fault-current cap: a dead short") for t in texts)
+    assert any(t and t.startswith("Declared load: a resistance") for t in texts)
 
 
 @pytest.mark.postgres
