@@ -6,7 +6,7 @@ import numpy as np
 
 from shop.core.safety import caveats
 from shop.physics.circuit import NO_OPERATING_POINT, solve_series
-from shop.physics.judgement import LAMP_POWER_TOLERANCE, LOAD_TOLERANCE
+from shop.physics.judgement import LAMP_POWER_TOLERANCE, LOAD_TOLERANCE, lamp_with_spread
 from shop.physics.loads import ResistiveLoad
 from shop.physics.transient import switch_on
 
@@ -16,12 +16,6 @@ from .physics_inputs import physics_limiter
 DEFAULT_SWEEP_POINTS = 25
 MAX_SWEEP_POINTS = 500
 ROUND_DIGITS = 4
-
-
-def _scaled_limiter(limiter: list[dict], factor: float, ambient: float):
-    return physics_limiter(
-        [{**lamp, "rated_power": lamp["rated_power"] * factor} for lamp in limiter], ambient
-    )
 
 
 def _rounded(values) -> list:
@@ -46,7 +40,7 @@ def predict(
 ) -> dict:
     """What a healthy unit of the declared load shows through the limiter, over a sweep.
 
-    The band spans the lamp's rated-power spread and the declared load's uncertainty; the
+    The band spans the lamp's rated-power spread (as the judgement models it) and the declared
     fault cap is the lamp's own current with the unit's terminals shorted at full source.
     """
     source = np.asarray(source_voltages, dtype=float)
@@ -55,14 +49,14 @@ def predict(
     healthy = solve_series(lamp, load, source, source_resistance, frequency)
     # The lowest unit volts: the smallest lamp with the heaviest load; the highest: the reverse.
     low = solve_series(
-        _scaled_limiter(limiter, 1 - lamp_power_tolerance, ambient_temperature),
+        lamp_with_spread(lamp, 1 - lamp_power_tolerance),
         load.scaled(1 + load_tolerance),
         source,
         source_resistance,
         frequency,
     )
     high = solve_series(
-        _scaled_limiter(limiter, 1 + lamp_power_tolerance, ambient_temperature),
+        lamp_with_spread(lamp, 1 + lamp_power_tolerance),
         load.scaled(1 - load_tolerance),
         source,
         source_resistance,

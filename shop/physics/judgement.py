@@ -399,6 +399,24 @@ class _SpreadLamp:
         return self.base.glow(voltage)
 
 
+def lamp_with_spread(lamp, factor):
+    """The lamp as one of its production spread: the same filament design drawing ``factor``
+    times the current at every lamp voltage (a rated-power tolerance of ``factor - 1``).
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The nominal lamp.
+    factor : float
+        Multiple of the nominal current [-], e.g. ``1 - LAMP_POWER_TOLERANCE``.
+
+    Returns
+    -------
+    An object the series solver takes in place of a lamp; the judgement's band uses the same.
+    """
+    return _SpreadLamp(lamp, factor)
+
+
 def _on_last_axis(values, mask):
     """Pick the readings in ``mask`` from a per-reading array; leave others to broadcast."""
     values = np.asarray(values)
