@@ -41,7 +41,8 @@ def predict(
     """What a healthy unit of the declared load shows through the limiter, over a sweep.
 
     The band spans the lamp's rated-power spread (as the judgement models it) and the declared
-    fault cap is the lamp's own current with the unit's terminals shorted at full source.
+    load's uncertainty; the fault cap is the lamp's own current with the unit's terminals
+    shorted at full source.
     """
     source = np.asarray(source_voltages, dtype=float)
     lamp = physics_limiter(limiter, ambient_temperature)
