@@ -41,6 +41,7 @@ as the current rises; the solver checks it and refuses a load for which it
 fails rather than pick one of several answers.
 """
 
+from abc import ABC, abstractmethod
 from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
@@ -279,7 +280,7 @@ def check_scalar(value, name, unit, *, low=None, high=None, positive=False, allo
     return number
 
 
-class ScalableLoad:
+class ScalableLoad(ABC):
     """Shared behaviour of the unit models: a draw factor as identical copies in parallel.
 
     A model describes one unit (scalar parameters) through ``_impedance_of_one``,
@@ -306,17 +307,21 @@ class ScalableLoad:
         self.draw_factor = factor
         self.assumptions = ()
 
+    @abstractmethod
     def _impedance_of_one(self, current, frequency):
-        raise NotImplementedError
+        """Complex impedance [ohm] of one unit at an RMS current [A] and frequency [Hz]."""
 
+    @abstractmethod
     def _admittance_of_one(self, voltage, frequency):
-        raise NotImplementedError
+        """Complex admittance [S] of one unit at an RMS voltage [V] and frequency [Hz]."""
 
+    @abstractmethod
     def _rated_power_of_one(self):
-        raise NotImplementedError
+        """Declared draw of one unit [W]."""
 
+    @abstractmethod
     def _description(self):
-        raise NotImplementedError
+        """Model, summary, parameters with units and assumptions of one unit."""
 
     def _copy_with_factor(self, factor):
         clone = object.__new__(type(self))
