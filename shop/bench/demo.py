@@ -18,7 +18,7 @@ from shop.physics.lamp import Lamp as PhysicsLamp
 from shop.physics.scenarios import random_perturbed_lamp, readings
 
 from . import services
-from .declared_load import physics_load
+from .declared_load import physics_load, unit_model_document
 from .models import Instrument, Lamp, Rig
 
 
@@ -96,6 +96,16 @@ def _generated_readings(lamp: Lamp, rig: Rig, document: dict, entry: dict):
     return [{k: v for k, v in asdict(r).items() if v is not None} for r in taken]
 
 
+def _declared_load(entry: dict, unit) -> dict | None:
+    """The entry's declared load; else, given a bench configuration, the unit's nameplate model
+    set up that way (an amplifier with its output loaded); else None (the service's default)."""
+    if "declared_load" in entry or "configuration" not in entry:
+        return entry.get("declared_load")
+    document = unit_model_document(unit)
+    document["configuration"] = {**document["configuration"], **entry["configuration"]}
+    return document
+
+
 def load_demo_bench(data: dict, staff: dict, units_by_key: dict) -> list[str]:
     """Create the bench records and close every demo test; return one line per test."""
     lead = next(user for user in staff.values() if user.groups.filter(name="lead").exists())
@@ -111,7 +121,7 @@ def load_demo_bench(data: dict, staff: dict, units_by_key: dict) -> list[str]:
             rig=rig,
             lamp=lamp,
             technician=staff[entry["by"]],
-            declared_load=entry.get("declared_load"),
+            declared_load=_declared_load(entry, job.unit),
             load_meter=meters[entry["meter"]],
             current_meter=meters.get(entry.get("current_meter")),
             notes=f"Demo scenario: {entry['scenario']}.",

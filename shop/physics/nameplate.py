@@ -314,9 +314,9 @@ def unit_load_from_nameplate(
         assumptions.append(
             "Its own autotransformer is taken as a transformer (same magnetising current)."
         )
+    if category in AMPLIFIER_CATEGORIES and configuration["dummy_load_on_output"]:
+        assumptions.append("Dummy load on the output, no signal: the amplifier idles.")
     if valve_gear:
-        if category in AMPLIFIER_CATEGORIES and configuration["dummy_load_on_output"]:
-            assumptions.append("Dummy load on the output, no signal: the amplifier idles.")
         members = _valve_set(
             voltage, power, category, series_string, rated_frequency, configuration, assumptions
         )

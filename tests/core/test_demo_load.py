@@ -57,3 +57,21 @@ def test_demo_valve_radio_and_switch_mode_unit_are_judged_through_their_own_mode
     sample = json.loads(Certificate.objects.get(job=radio.job).snapshot)
     assert "rectifier" in sample["tests"][0]["declared_load"]["summary"]
     assert sample["tests"][0]["declared_load"]["assumptions"]
+
+
+def test_demo_amplifiers_are_judged_through_their_nameplate_models_with_output_loaded(db):
+    from shop.bench.declared_load import physics_load
+
+    call_command("demo_load", stdout=StringIO())
+    valve = PowerUpTest.objects.get(job__unit__model_name="A-12 monoblock")
+    solid = PowerUpTest.objects.get(job__unit__model_name="MP-400 integrated amplifier")
+    for test in (valve, solid):
+        assert test.declared_load["kind"] == "nameplate"
+        assert test.declared_load["configuration"]["dummy_load_on_output"] is True
+        described = physics_load(test.declared_load).describe()
+        assert "Dummy load on the output" in " ".join(described["assumptions"])
+    assert "heater" in physics_load(valve.declared_load).describe()["summary"]
+    assert "heater" not in physics_load(solid.declared_load).describe()["summary"]
+    # The monoblock draws 1.45x its model (fixtures/demo/bench.json): more than a healthy unit,
+    # short of a fault; the solid-state amplifier is healthy.
+    assert (valve.verdict.outcome, solid.verdict.outcome) == ("marginal", "pass")
