@@ -75,3 +75,15 @@ def test_demo_amplifiers_are_judged_through_their_nameplate_models_with_output_l
     # The monoblock draws 1.45x its model (fixtures/demo/bench.json): more than a healthy unit,
     # short of a fault; the solid-state amplifier is healthy.
     assert (valve.verdict.outcome, solid.verdict.outcome) == ("marginal", "pass")
+
+
+def test_demo_guitar_amplifier_with_valves_pulled_is_modelled_so_and_fails(db):
+    from shop.bench.declared_load import physics_load
+
+    call_command("demo_load", stdout=StringIO())
+    guitar = PowerUpTest.objects.get(job__unit__model_name="Roost 30")
+    assert guitar.declared_load["configuration"]["valves_pulled"] is True
+    assumptions = " ".join(physics_load(guitar.declared_load).describe()["assumptions"])
+    assert "pulled" in assumptions
+    # It draws three times its model (fixtures/demo/bench.json): a fault.
+    assert guitar.verdict.outcome == "fail"
