@@ -7,6 +7,7 @@ import numpy as np
 from shop.physics.circuit import solve_bypassed, solve_series
 from shop.physics.glow import GLOW_CLASSES, glow_class
 from shop.physics.transformer import magnetising_current
+from shop.physics.warm_up import DETAILED_SECONDS, lamp_filaments, slow_phase
 from shop.physics.waveform import Network
 
 # RK4 steps per mains cycle: the filament's temperature and the circuit's states are smooth
@@ -27,23 +28,30 @@ STEADY = "steady"
 
 @dataclass(frozen=True)
 class SwitchOnTransient:
-    """A switch-on, half cycle by half cycle, and the figures the verdict and the plot use.
+    """A switch-on, row by row over time, and the figures the verdict and the plot use.
 
-    Arrays over time have the half cycles on their first axis and the columns (source
-    voltages broadcast against the load's draw factor) after it.
+    Arrays over time have the rows on their first axis and the columns (source voltages
+    broadcast against the load's draw factor) after it. Up to ``detailed_until`` a row is a
+    half cycle followed in detail; after it (a unit with heaters followed for longer than
+    :data:`shop.physics.warm_up.DETAILED_SECONDS`) a row is an instant of the heaters' slow
+    warm-up, its figures those of the cycle at that instant, the circuit at its periodic
+    steady state around the heaters as they are then (:func:`shop.physics.warm_up.slow_phase`).
 
     Attributes
     ----------
     time : numpy.ndarray
-        End of each half cycle since switch-on [s], shape ``(H,)``.
+        Since switch-on [s], shape ``(H,)``: the end of each half cycle up to
+        ``detailed_until``, then the instant of each step of the slow phase.
     current, load_voltage : numpy.ndarray
-        RMS current [A] and unit voltage [V] over each half cycle.
+        RMS current [A] and unit voltage [V] over each row's half cycle (or cycle).
     average_current, average_load_voltage : numpy.ndarray
-        Rectified means over each half cycle [A, V]: what an average-responding meter senses.
+        Rectified means over each row's half cycle (or cycle) [A, V]: what an
+        average-responding meter senses.
     peak_current : numpy.ndarray
-        Largest instantaneous current in each half cycle [A].
+        Largest instantaneous current in each row's half cycle (or cycle) [A].
     filament_temperature : numpy.ndarray
-        The hottest lamp filament at its hottest in each half cycle [K].
+        The hottest lamp filament at its hottest in each half cycle [K]; in the slow phase
+        its steady temperature at that instant.
     glow : numpy.ndarray
         Glow class (str) of that hottest filament: the glow over time.
     inrush_peak : numpy.ndarray
@@ -51,13 +59,16 @@ class SwitchOnTransient:
     steady_current : numpy.ndarray
         RMS current of the periodic steady state [A], per column.
     settle_time : numpy.ndarray
-        Time from which every half cycle's RMS current stays within ``SETTLE_FRACTION`` of
-        the steady state's [s]; NaN if not within the duration.
+        Time from which every row's RMS current stays within ``SETTLE_FRACTION`` of the
+        steady state's [s]; NaN if not within the duration.
     steady_glow : numpy.ndarray
         Glow class at steady state, per column.
     behaviour : numpy.ndarray
         ``"flash_then_dims"`` where the lamp glows brighter at switch-on than at steady
         state, else ``"steady"``, per column.
+    detailed_until : float
+        End of the part followed half cycle by half cycle [s]: the last row's time unless
+        a slow phase follows.
     """
 
     time: np.ndarray
@@ -73,19 +84,20 @@ class SwitchOnTransient:
     settle_time: np.ndarray
     steady_glow: np.ndarray
     behaviour: np.ndarray
+    detailed_until: float = np.inf
 
     def at(self, seconds):
-        """Index of the half cycle holding each time since switch-on (numeric [s] in)."""
-        index = np.searchsorted(self.time, np.asarray(seconds, dtype=float), side="left")
-        return np.clip(index, 0, self.time.size - 1)
+        """Row of each time since switch-on (numeric [s] in).
 
-
-def _filaments(lamp):
-    """(filament, multiplier) pairs of a lamp, a bank of lamps, or a spread lamp."""
-    base = getattr(lamp, "base", None)
-    if base is not None:
-        return [(filament, multiplier * lamp.factor) for filament, multiplier in _filaments(base)]
-    return [(member, 1.0) for member in getattr(lamp, "lamps", (lamp,))]
+        The half cycle holding it; in the slow phase the nearest instant.
+        """
+        seconds = np.asarray(seconds, dtype=float)
+        index = np.clip(np.searchsorted(self.time, seconds, side="left"), 0, self.time.size - 1)
+        earlier = np.maximum(index - 1, 0)
+        nearer = (self.time[earlier] >= self.detailed_until) & (
+            seconds - self.time[earlier] < self.time[index] - seconds
+        )
+        return np.where(nearer, earlier, index)
 
 
 class _Tables:
@@ -149,7 +161,10 @@ def switch_on(
     phase : float, default 90.0
         Phase of the source at switch-on [degrees]: 90 is the crest, 0 a zero crossing.
     duration : float, default 1.0
-        How long to follow it [s].
+        How long to follow it [s]. A unit with heaters is followed in detail for
+        :data:`shop.physics.warm_up.DETAILED_SECONDS` at most and then through its heaters'
+        slow warm-up (:func:`shop.physics.warm_up.slow_phase`), so that a valve set's tens of
+        seconds cost little more than the first.
     lamp_bypassed : bool, default False
         Whether the lamp is switched out.
     remanence : bool, default True
@@ -174,7 +189,9 @@ def switch_on(
     the circuit of :class:`shop.physics.waveform.Network`: the reservoir starts discharged,
     the core with its residual flux in the direction the first half cycle drives it (the
     worst case), a valve rectifier conducting in proportion to how far it has warmed. RK4
-    with ``STEPS_PER_CYCLE`` steps a cycle or more, all columns at once.
+    with ``STEPS_PER_CYCLE`` steps a cycle or more, all columns at once. After
+    ``DETAILED_SECONDS`` a unit's heaters are followed alone, quasi-statically (see
+    :mod:`shop.physics.warm_up`), from the temperatures the detailed part left them at.
     """
     network = Network(load, frequency)
     source = np.asarray(source_voltage, dtype=float)
@@ -182,7 +199,7 @@ def switch_on(
     amplitude = np.sqrt(2.0) * np.broadcast_to(source, shape).ravel()
     factor = np.broadcast_to(network.factor, shape).ravel()
     size = amplitude.size
-    filaments = [] if lamp_bypassed else _filaments(lamp)
+    filaments = [] if lamp_bypassed else lamp_filaments(lamp)
     lamp_tables = [filament.thermal_table() for filament, _ in filaments]
     heater_tables = [heater.element.thermal_table() for heater, _ in network.heaters]
     ambient = [table.temperature[0] for table in lamp_tables + heater_tables]
@@ -222,7 +239,10 @@ def switch_on(
     steps += steps % 2  # whole half cycles
     half_steps = steps // 2
     step = network.period / steps
-    halves = max(int(np.ceil(duration / (network.period / 2))), 1)
+    # Beyond the first second heaters warm on their own slow time: the warm-up module follows.
+    slow = bool(network.heaters) and duration > DETAILED_SECONDS
+    detailed = DETAILED_SECONDS if slow else duration
+    halves = max(int(np.ceil(detailed / (network.period / 2))), 1)
 
     electrical = np.zeros((network.states, size))
     first = network.caps + int(network.choke)
@@ -319,12 +339,31 @@ def switch_on(
     steady = solve(lamp, load, np.broadcast_to(source, shape), source_resistance, frequency)
     steady_current = np.asarray(steady.current, dtype=float).ravel()
     times = (np.arange(halves) + 1) * network.period / 2
+    detailed_until = float(times[-1])
+    if slow:
+        later = slow_phase(
+            lamp,
+            load,
+            np.broadcast_to(source, shape),
+            temperatures[lamp_count:].reshape((-1,) + shape),
+            start=detailed_until,
+            duration=duration,
+            source_resistance=source_resistance,
+            frequency=frequency,
+            lamp_bypassed=lamp_bypassed,
+        )
+        for name in figures:
+            figures[name] = np.concatenate(
+                [figures[name], getattr(later, name).reshape(later.time.size, size)]
+            )
+        times = np.concatenate([times, later.time])
+    rows = times.size
     outside = np.abs(figures["current"] - steady_current) > SETTLE_FRACTION * steady_current
-    last_outside = np.where(outside.any(axis=0), halves - 1 - np.argmax(outside[::-1], axis=0), -1)
+    last_outside = np.where(outside.any(axis=0), rows - 1 - np.argmax(outside[::-1], axis=0), -1)
     settle = np.where(
         last_outside < 0,
         0.0,
-        np.where(last_outside >= halves - 1, np.nan, times[np.clip(last_outside, 0, None)]),
+        np.where(last_outside >= rows - 1, np.nan, times[np.clip(last_outside, 0, None)]),
     )
     if lamp_count:
         rated = max(filament.rated_temperature for filament, _ in filaments)
@@ -334,7 +373,7 @@ def switch_on(
         steady_rank = np.array([GLOW_CLASSES.index(name) for name in steady_glow])
         behaviour = np.where(rank.max(axis=0) > steady_rank, FLASH_THEN_DIMS, STEADY)
     else:
-        glow = np.full((halves, size), GLOW_CLASSES[0])
+        glow = np.full((rows, size), GLOW_CLASSES[0])
         steady_glow = np.full(size, GLOW_CLASSES[0])
         behaviour = np.full(size, STEADY)
 
@@ -355,4 +394,5 @@ def switch_on(
         settle_time=shaped(settle),
         steady_glow=shaped(steady_glow),
         behaviour=shaped(behaviour),
+        detailed_until=detailed_until,
     )
