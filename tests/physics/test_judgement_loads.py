@@ -8,6 +8,8 @@ import pytest
 from shop.physics import scenarios as reference
 from shop.physics.advice import SUITABLE, TOO_SMALL, advise_lamp
 from shop.physics.circuit import NO_OPERATING_POINT, OFF, meter_readings, solve_series
+from shop.physics.composite import CompositeLoad
+from shop.physics.heater import HeaterLoad
 from shop.physics.judgement import (
     ALL_IN_BAND,
     DRAW_BELOW_BAND,
@@ -15,6 +17,7 @@ from shop.physics.judgement import (
     GLOW_CYCLING_UNEXPECTED,
     LOAD_CANNOT_RUN,
     READING_NOT_SETTLED,
+    SWITCH_ON_SECONDS,
     Reading,
     judge,
 )
@@ -235,12 +238,92 @@ def test_the_same_reading_without_its_time_looks_like_a_heavy_draw():
     assert verdict.readings[0].status in ("draw_above_band", "draw_high")
 
 
-def test_a_reading_taken_while_heaters_still_warm_beyond_the_followed_switch_on_is_named():
-    reading = Reading(source_voltage=120.0, load_voltage=80.0, seconds_since_switch_on=5.0)
-    verdict = judge(
-        RADIO_LAMP, RADIO, [reading], nominal_source_voltage=120.0, source_resistance=2.0
+def _noisy(value, accuracy, rng):
+    """A meter's reading of ``value``: the scenarios' noise, normal and clipped at its limit."""
+    limit = accuracy[0] * value + accuracy[1]
+    return max(value + float(np.clip(rng.normal(0.0, limit / 2), -limit, limit)), 0.0)
+
+
+def _warm_up_readings(unit, seconds, seed):
+    """Volts and amps of ``unit`` at those seconds after switching it on at 120 V through the
+    lamp the rig really had (a perturbed one), with the meter noise of the scenarios."""
+    rng = np.random.default_rng(seed)
+    true_lamp = reference.random_perturbed_lamp(RADIO_LAMP, rng)
+    result = switch_on(
+        true_lamp, unit, 120.0, source_resistance=WINDINGS_120, duration=max(seconds)
     )
+    return [
+        Reading(
+            source_voltage=_noisy(120.0, reference.METER, rng),
+            load_voltage=_noisy(
+                float(result.load_voltage[result.at(second)]), reference.METER, rng
+            ),
+            current=_noisy(float(result.current[result.at(second)]), reference.AMMETER, rng),
+            seconds_since_switch_on=second,
+        )
+        for second in seconds
+    ]
+
+
+def _radio_judged(readings, unit=RADIO):
+    return judge(
+        RADIO_LAMP, unit, readings, nominal_source_voltage=120.0, source_resistance=WINDINGS_120
+    )
+
+
+@pytest.mark.parametrize("seed", [1, 2])
+def test_a_healthy_valve_radio_read_while_its_heaters_warm_passes(seed):
+    verdict = _radio_judged(_warm_up_readings(RADIO, (5.0, 15.0, 30.0), seed))
+    assert verdict.outcome == "pass", verdict.reasons
+    assert all(item.status == "in_band" for item in verdict.readings)
+    # Settled (current within 10 % of steady) at about 19 s: the first two against the warm-up.
+    judged = [item.judged_against for item in verdict.readings]
+    assert judged == ["switch_on", "switch_on", "steady_state"]
+
+
+def test_a_valve_radio_drawing_three_times_its_load_fails_while_its_heaters_warm():
+    verdict = _radio_judged(_warm_up_readings(RADIO.scaled(3.0), (15.0,), 3))
+    assert verdict.outcome == "fail"
+    assert verdict.codes[0] == DRAW_HIGH
+    assert verdict.readings[0].judged_against == "switch_on"
+
+
+def test_the_same_warm_up_reading_without_its_time_looks_like_too_much_draw():
+    (reading,) = _warm_up_readings(RADIO, (5.0,), 4)
+    untimed = Reading(
+        source_voltage=reading.source_voltage,
+        current=reading.current,
+        load_voltage=reading.load_voltage,
+    )
+    verdict = _radio_judged([untimed])
+    assert verdict.readings[0].status in ("draw_above_band", "draw_high")
+
+
+# A set whose heaters take five minutes to warm: still unsettled when the judgement stops
+# following its switch-on.
+SLOW_RADIO = CompositeLoad(
+    [HeaterLoad(120.0, RADIO.members[0].rated_power, warm_up_time=300.0), *RADIO.members[1:]]
+)
+
+
+def test_a_reading_later_than_the_followed_warm_up_of_an_unsettled_unit_is_named():
+    reading = Reading(source_voltage=120.0, load_voltage=80.0, seconds_since_switch_on=200.0)
+    verdict = _radio_judged([reading], SLOW_RADIO)
     assert READING_NOT_SETTLED in verdict.codes
+    assert f"beyond the {SWITCH_ON_SECONDS:g} s" in verdict.reasons[0].message
+
+
+def test_a_valve_radio_read_half_an_hour_after_switch_on_is_judged_settled():
+    reading = _warm_up_readings(RADIO, (60.0,), 5)[0]
+    late = Reading(
+        source_voltage=reading.source_voltage,
+        load_voltage=reading.load_voltage,
+        current=reading.current,
+        seconds_since_switch_on=1800.0,
+    )
+    verdict = _radio_judged([late])
+    assert verdict.readings[0].judged_against == "steady_state"
+    assert READING_NOT_SETTLED not in verdict.codes
 
 
 # The demo shop's amplifiers (fixtures/demo/intake.json): a 1968 valve guitar amplifier with

@@ -11,6 +11,7 @@ from shop.physics import transient
 from shop.physics.circuit import solve_series
 from shop.physics.composite import CompositeLoad
 from shop.physics.heater import HeaterLoad
+from shop.physics.judgement import SWITCH_ON_SECONDS
 from shop.physics.loads import ResistiveLoad
 from shop.physics.rectifier import RectifierLoad
 from shop.physics.transient import switch_on
@@ -175,6 +176,23 @@ def test_a_valve_radio_warms_for_tens_of_seconds_and_its_current_falls_steadily(
     assert float(result.current[result.at(1.0)]) > 1.25 * float(result.steady_current)
     assert (np.diff(later) < 0).all()
     assert_allclose(later[-1], result.steady_current, rtol=0.01)
+
+
+@pytest.mark.parametrize("warm_up_time", [10.0, 60.0])
+def test_the_judgement_follows_long_enough_for_a_heater_of_a_minute(warm_up_time):
+    unit = CompositeLoad(
+        [HeaterLoad(120.0, HEATER.rated_power, warm_up_time=warm_up_time), *RADIO.members[1:]]
+    )
+    result = switch_on(
+        LAMP_100,
+        unit,
+        [90.0, 120.0, 130.0],
+        source_resistance=WINDINGS,
+        duration=SWITCH_ON_SECONDS,
+    )
+    # Through a lamp a heater settles in two to three of its time constants (seen 1.7-2.8).
+    assert (result.settle_time > 1.5 * warm_up_time).all()
+    assert (result.settle_time < 3.0 * warm_up_time).all()
 
 
 def test_in_the_slow_phase_a_time_is_read_at_the_nearest_instant():
