@@ -8,10 +8,10 @@ from shop.core.safety import caveats
 from shop.physics.circuit import NO_OPERATING_POINT, solve_series
 from shop.physics.judgement import LAMP_POWER_TOLERANCE, LOAD_TOLERANCE, lamp_with_spread
 from shop.physics.loads import ResistiveLoad
-from shop.physics.transient import switch_on
 
 from .declared_load import physics_load
 from .physics_inputs import physics_limiter
+from .switch_on import switch_on_block
 
 DEFAULT_SWEEP_POINTS = 25
 MAX_SWEEP_POINTS = 500
@@ -115,45 +115,18 @@ def running_curve(curves: dict) -> dict:
     return {key: [row[i] for row in rows] for i, key in enumerate(CURVE_KEYS)}
 
 
-SWITCH_ON_SECONDS = 0.5  # [s] long enough for a lamp to settle; heaters take longer
-
-
-def switch_on_summary(
-    *,
-    limiter: list[dict],
-    declared_load: dict,
-    source_voltage: float,
-    source_resistance: float,
-    frequency: float,
-    ambient_temperature: float = 300.0,
-) -> dict | None:
+def switch_on_summary(**inputs) -> dict | None:
     """Switching the healthy unit on at the crest at `source_voltage`: inrush, settling, glow.
 
-    None for a constant-power unit, whose steady state already says whether it runs.
+    Takes the keyword arguments of :func:`shop.bench.switch_on.switch_on_block` and answers
+    its thinned series and the behaviour in words; None where the physics cannot follow the
+    unit in time (today a constant-power unit, whose steady state already says whether it
+    runs).
     """
     try:
-        transient = switch_on(
-            physics_limiter(limiter, ambient_temperature),
-            physics_load(declared_load),
-            source_voltage,
-            source_resistance=source_resistance,
-            frequency=frequency,
-            duration=SWITCH_ON_SECONDS,
-        )
+        return switch_on_block(**inputs)
     except ValueError:
         return None
-    settle = float(np.ravel(transient.settle_time)[0])
-    return {
-        "source_voltage": source_voltage,
-        "inrush_peak_current": round(float(np.ravel(transient.inrush_peak)[0]), ROUND_DIGITS),
-        "steady_current": round(float(np.ravel(transient.steady_current)[0]), ROUND_DIGITS),
-        "settle_time": round(settle, 4) if np.isfinite(settle) else None,
-        "behaviour": str(np.ravel(transient.behaviour)[0]),
-        "glow_over_time": [
-            {"time": round(float(t), 4), "glow": str(np.ravel(g)[0])}
-            for t, g in zip(transient.time, transient.glow)
-        ],
-    }
 
 
 def sweep(full_source_voltage: float, points: int = DEFAULT_SWEEP_POINTS) -> np.ndarray:

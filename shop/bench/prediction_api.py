@@ -7,6 +7,7 @@ from rest_framework import serializers
 from .declared_load import validated_document
 from .models import Lamp, LampBank, LampFill, LampTechnology, Rig
 from .prediction import MAX_SWEEP_POINTS
+from .switch_on import MAX_POINTS as MAX_SWITCH_ON_POINTS
 
 
 class LampSpecSerializer(serializers.Serializer):
@@ -72,23 +73,48 @@ class FaultCapSerializer(serializers.Serializer):
 
 
 class GlowMomentSerializer(serializers.Serializer):
+    """The half cycle ending at `time` (or, where the model follows a slow warm-up in steps,
+    the cycle at `time`): the lamp's glow and current then.
+
+    A moment's glow holds from the previous moment's time to its own: the moments are thinned
+    (see `SwitchOnSerializer`) keeping the last of every stretch of one glow.
+    """
+
     time = serializers.FloatField(help_text="Since switch-on [s].")
-    glow = serializers.CharField()
+    glow = serializers.CharField(help_text="Glow class of the lamp's hottest filament.")
+    current = serializers.FloatField(allow_null=True, help_text="Lamp current, RMS [A].")
+    peak_current = serializers.FloatField(
+        allow_null=True, help_text="Largest instantaneous lamp current [A]."
+    )
 
 
 class SwitchOnSerializer(serializers.Serializer):
     """Switching a healthy unit on at the crest of full source."""
 
-    source_voltage = serializers.FloatField()
-    inrush_peak_current = serializers.FloatField(help_text="[A], instantaneous")
-    steady_current = serializers.FloatField(help_text="[A RMS]")
+    source_voltage = serializers.FloatField(help_text="[V RMS]")
+    inrush_peak_current = serializers.FloatField(allow_null=True, help_text="[A], instantaneous")
+    steady_current = serializers.FloatField(
+        allow_null=True,
+        help_text="[A RMS]; null where the unit has no steady operating point through the lamp.",
+    )
     settle_time = serializers.FloatField(
         allow_null=True,
         help_text="Until the current stays within 10 % of steady [s]; null if "
         "it has not settled in the time followed.",
     )
-    behaviour = serializers.CharField(help_text="flash_then_dims or steady")
-    glow_over_time = GlowMomentSerializer(many=True)
+    followed_for = serializers.FloatField(help_text="Time followed [s].")
+    behaviour = serializers.CharField(
+        help_text="flash_then_dims or steady; later models add others (cycles, "
+        "does_not_start): behaviour_words says any of them in plain words."
+    )
+    behaviour_words = serializers.CharField(help_text="The behaviour as one sentence.")
+    steady_glow = serializers.CharField(help_text="Glow class once settled.")
+    glow_over_time = GlowMomentSerializer(
+        many=True,
+        help_text=f"At most {MAX_SWITCH_ON_POINTS} moments, in time order: every moment while "
+        "they fit, else the first, the last, the inrush, the settling point, the last of "
+        "every stretch of one glow, and moments evenly spread between.",
+    )
 
 
 class CaveatSerializer(serializers.Serializer):

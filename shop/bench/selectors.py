@@ -13,7 +13,7 @@ from shop.core.safety import caveats
 from shop.intake.models import Unit
 from shop.physics.advice import advise_lamp
 
-from . import judging, prediction
+from . import judging, prediction, switch_on
 from .declared_load import physics_load, unit_model_document
 from .models import (
     REFUSED_TECHNOLOGIES,
@@ -98,8 +98,32 @@ def healthy_curves(test: PowerUpTest, inputs: dict, points: int) -> dict:
     )
 
 
+def switch_on_source_voltage(inputs: dict) -> float:
+    """The source volts a test's switch-on is shown at: the highest reading's (what the unit
+    saw), else the rig's mains."""
+    sources = [float(reading["source_voltage"]) for reading in inputs["readings"]]
+    highest = max(sources, default=0.0)
+    return highest if highest > 0 else float(inputs["nominal_source_voltage"])
+
+
+def healthy_switch_on(inputs: dict) -> dict:
+    """A healthy unit's switch-on for a test's inputs (see `switch_on_source_voltage`).
+
+    Raises ValueError where the physics cannot follow the unit in time.
+    """
+    return switch_on.switch_on_block(
+        limiter=inputs["limiter"],
+        declared_load=inputs["declared_load"],
+        source_voltage=switch_on_source_voltage(inputs),
+        source_resistance=inputs["source_resistance"],
+        frequency=inputs["frequency"],
+        ambient_temperature=inputs["ambient_temperature"],
+    )
+
+
 def powerup_plot(test: PowerUpTest) -> str:
-    """The test's SVG plot: the healthy band over a sweep and each reading by its status."""
+    """The test's SVG plot: the healthy band over a sweep and each reading by its status,
+    and under it a healthy unit's switch-on (or a line saying why it is left out)."""
     readings = list(reading_list(test=test))
     inputs = judging.verdict_inputs(test, readings)
     if hasattr(test, "verdict"):
@@ -114,8 +138,19 @@ def powerup_plot(test: PowerUpTest) -> str:
         {"source_voltage": r.source_voltage, "load_voltage": r.load_voltage, "status": status}
         for r, status in zip(readings, statuses)
     ]
+    starting, refused = None, None
+    try:
+        starting = healthy_switch_on(inputs)
+    except ValueError as exc:
+        refused = str(exc)
     title = f"Power-up {test.pk}, job {test.job.number}: unit volts against source volts"
-    return render_svg(prediction=curves, readings=points, title=title)
+    return render_svg(
+        prediction=curves,
+        readings=points,
+        title=title,
+        switch_on=starting,
+        switch_on_refused=refused,
+    )
 
 
 def _rig_numbers(data: dict) -> dict:
