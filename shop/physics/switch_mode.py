@@ -9,6 +9,15 @@ from shop.physics.loads import DEFAULT_RATED_VOLTAGE, ScalableLoad, check_scalar
 # practice, no source). For a universal input rated 100-240 V that is about 80 V and 70 V.
 START_FRACTION = 0.8
 STOP_FRACTION = 0.7
+# A capacitor-input (universal-input) switch-mode supply carries about 1-2 uF of reservoir per
+# watt it draws, more for a 100-120 V only input and less for a 230 V only one (common
+# practice, no source). Only the switch-on model (shop.physics.switch_mode_start) uses it.
+RESERVOIR_PER_WATT = 1.5e-6  # [F/W]
+# An off-line converter's controller runs from its own small supply, charged from the reservoir
+# through a start-up resistor or current source: about 10-50 uF brought to its 10-16 V turn-on
+# level by 1-3 mA takes about 0.1-1 s, before the first start and again after every stop
+# (from memory). Only the switch-on model uses it.
+DEFAULT_START_DELAY = 0.2  # [s]
 
 RUNNING = "running"
 OFF = "off"
@@ -43,6 +52,15 @@ class ConstantPowerLoad(ScalableLoad):
     stop_voltage : float, optional
         Input voltage below which a running unit stops [V]; default ``STOP_FRACTION`` (0.7)
         of ``rated_voltage``; at most ``start_voltage``.
+    reservoir : float, optional
+        Reservoir capacitor behind its bridge rectifier [F], for the switch-on model
+        (:func:`shop.physics.switch_mode_start.switch_mode_switch_on`); default
+        ``RESERVOIR_PER_WATT`` times ``power``, which understates it for a large supply
+        declared at its idle draw: give it where known. The steady state does not use it.
+    start_delay : float, default 0.2
+        Time the reservoir must stand above the start threshold before the converter runs [s]
+        (its controller's own supply charging up), at the first start and at every restart;
+        default ``DEFAULT_START_DELAY``; switch-on model only.
 
     Notes
     -----
@@ -70,6 +88,8 @@ class ConstantPowerLoad(ScalableLoad):
         start_voltage=None,
         stop_voltage=None,
         draw_factor=1.0,
+        reservoir=None,
+        start_delay=None,
     ):
         super().__init__(draw_factor)
         self.power = check_scalar(power, "power", "W", positive=True, allow_zero=False)
@@ -89,6 +109,23 @@ class ConstantPowerLoad(ScalableLoad):
             positive=True,
             high=self.start_voltage,
         )
+        self.reservoir_given = reservoir is not None
+        self.reservoir = check_scalar(
+            RESERVOIR_PER_WATT * self.power if reservoir is None else reservoir,
+            "reservoir",
+            "F",
+            positive=True,
+            allow_zero=False,
+            high=1.0,
+        )
+        self.start_delay_given = start_delay is not None
+        self.start_delay = check_scalar(
+            DEFAULT_START_DELAY if start_delay is None else start_delay,
+            "start_delay",
+            "s",
+            positive=True,
+            high=60.0,
+        )
 
     def _impedance_of_one(self, current, frequency):
         current = np.asarray(current, dtype=float)
@@ -104,6 +141,16 @@ class ConstantPowerLoad(ScalableLoad):
         return self.power
 
     def _description(self):
+        description = self._steady_description()
+        # The switch-on model's figures are listed only where given, so that a unit declared
+        # as before is described as before.
+        if self.reservoir_given:
+            description["parameters"]["reservoir"] = {"value": self.reservoir, "unit": "F"}
+        if self.start_delay_given:
+            description["parameters"]["start_delay"] = {"value": self.start_delay, "unit": "s"}
+        return description
+
+    def _steady_description(self):
         return {
             "model": "constant_power",
             "summary": (
