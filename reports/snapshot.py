@@ -10,7 +10,7 @@ from django.urls import reverse
 from shop.bench.declared_load import physics_load
 from shop.bench.models import Instrument, PowerUpTest
 from shop.bench.prediction import running_curve
-from shop.bench.selectors import calibration_state, healthy_curves
+from shop.bench.selectors import calibration_state, healthy_curves, healthy_switch_on
 from shop.core.safety import LIVE_CHASSIS_NOTE, caveats
 from shop.intake.models import Job
 
@@ -161,6 +161,18 @@ def _declared_load(document: dict) -> dict:
     }
 
 
+def _switch_on(inputs: dict) -> dict | None:
+    """A healthy unit's switch-on at the test's highest source volts, thinned (at most
+    ``shop.bench.switch_on.MAX_POINTS`` moments); None where the physics cannot follow it.
+
+    Certificates issued before it was added have no ``switch_on`` key at all.
+    """
+    try:
+        return healthy_switch_on(inputs)
+    except ValueError:
+        return None
+
+
 def _test(test: PowerUpTest, override: dict | None) -> dict:
     verdict = test.verdict
     inputs = verdict.inputs
@@ -210,6 +222,7 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
             "source_voltage": cap["source_voltage"],
             "glow": cap["glow"],
         },
+        "switch_on": _switch_on(inputs),
     }
 
 

@@ -7,6 +7,8 @@ from reportlab.graphics.shapes import Drawing
 from reportlab.lib.units import mm
 from reportlab.platypus import CondPageBreak, KeepTogether, Paragraph, Spacer, Table, TableStyle
 
+from shop.bench import switch_on_look as look
+
 from . import formatting as fmt
 from .formatting import text
 from .layout import (
@@ -22,6 +24,7 @@ from .layout import (
 )
 from .plot import readings_plot, status_words
 from .styles import INK, OUTCOME_COLOURS, STYLES, WARNING
+from .switch_on_plot import switch_on_plot
 
 TITLE = "Power-up test certificate"
 SCOPE = (
@@ -31,6 +34,7 @@ SCOPE = (
 OUTCOME_SCOPE = "Functional check under a current limiter; not an electrical safety approval."
 FOOTER = "Certificate {number}: power-up test under a current limiter, not a safety approval"
 PLOT_HEIGHT = 64 * mm
+SWITCH_ON_HEIGHT = 50 * mm
 QR_SIZE = 30 * mm
 LABEL_WIDTH = 24 * mm
 # Fractions of the text width for the readings table: #, source, unit, current, glow, band,
@@ -338,6 +342,45 @@ def _plot(test: dict, width: float) -> KeepTogether:
     return KeepTogether(flowables)
 
 
+def _switch_on(test: dict, width: float) -> list:
+    """A healthy unit's switch-on under the readings plot; nothing for a snapshot from before
+    certificates carried it, a line where the model could not follow the unit."""
+    if "switch_on" not in test:
+        return []
+    switch_on = test["switch_on"]
+    heading = Paragraph("Switching on a healthy unit", STYLES["subheading"])
+    if switch_on is None:
+        return [
+            heading,
+            Paragraph(
+                "The model cannot follow this unit's switch-on, so none is drawn.",
+                STYLES["small"],
+            ),
+        ]
+    drawing, stretches, unnamed = switch_on_plot(switch_on, width, SWITCH_ON_HEIGHT)
+    explanation = (
+        "Modelled, not measured: the lamp's current when a healthy unit of the declared load "
+        f"is switched on at {fmt.volts(switch_on['source_voltage'])} from the source, at the "
+        "crest of the wave, through this lamp. "
+        f"{look.LINES_WORDS} {look.settling_sentence(switch_on)} "
+        f"{look.crowded_sentence(stretches, unnamed)}"
+    )
+    return [
+        KeepTogether(
+            [
+                heading,
+                Paragraph(text(explanation.strip()), STYLES["small"]),
+                Spacer(1, 4),
+                drawing,
+                Paragraph(
+                    f"<b>At switch-on:</b> {text(look.behaviour_words(switch_on))}",
+                    STYLES["small"],
+                ),
+            ]
+        )
+    ]
+
+
 def _readings(test: dict, width: float) -> list:
     rows = []
     for reading in test["readings"]:
@@ -374,6 +417,7 @@ def _test(test: dict, index: int, count: int, width: float) -> list:
         *_set_up(test, width),
         Spacer(1, 6),
         _plot(test, width),
+        *_switch_on(test, width),
         *_readings(test, width),
     ]
 

@@ -102,9 +102,82 @@ def status_words(status: str) -> str:
     return _status_marker(status)[2]
 
 
-def _axis_ticks(top: float) -> tuple[list[float], list[str]]:
+def axis_ticks(top: float) -> tuple[list[float], list[str]]:
+    """Tick positions from zero to at least `top`, and their labels."""
     positions, labels = ticks(0, top, n=TICK_COUNTS)
     return positions, [label.strip() for label in labels]
+
+
+def draw_grid(drawing: Drawing, box: tuple, x_axis: tuple, y_axis: tuple) -> None:
+    """Grid lines and tick labels of a plot.
+
+    `box` is (left, bottom, width, height) [pt]; each axis is (ticks, labels) from
+    `axis_ticks`, the last tick at the box's far edge.
+    """
+    left, bottom, width, height = box
+    (x_ticks, x_labels), (y_ticks, y_labels) = x_axis, y_axis
+    for value, label in zip(x_ticks, x_labels):
+        x = left + float(value) / x_ticks[-1] * width
+        drawing.add(Line(x, bottom, x, bottom + height, strokeColor=GRID, strokeWidth=0.5))
+        drawing.add(
+            String(
+                x,
+                bottom - 9,
+                label,
+                fontName=FONT,
+                fontSize=LABEL_SIZE,
+                fillColor=INK,
+                textAnchor="middle",
+            )
+        )
+    for value, label in zip(y_ticks, y_labels):
+        y = bottom + float(value) / y_ticks[-1] * height
+        drawing.add(Line(left, y, left + width, y, strokeColor=GRID, strokeWidth=0.5))
+        drawing.add(
+            String(
+                left - 4,
+                y - 2.5,
+                label,
+                fontName=FONT,
+                fontSize=LABEL_SIZE,
+                fillColor=INK,
+                textAnchor="end",
+            )
+        )
+
+
+def draw_frame(drawing: Drawing, box: tuple) -> None:
+    """The frame around a plot's `box` (left, bottom, width, height) [pt]."""
+    drawing.add(Rect(*box, fillColor=None, strokeColor=INK, strokeWidth=0.8))
+
+
+def draw_axis_labels(drawing: Drawing, box: tuple, words: tuple[str, str]) -> None:
+    """The x axis's words under a plot's `box`, the y axis's turned up beside it."""
+    left, bottom, width, height = box
+    drawing.add(
+        String(
+            left + width / 2,
+            bottom - AXIS_BOTTOM + 5,
+            words[0],
+            fontName=FONT,
+            fontSize=LABEL_SIZE + 0.5,
+            fillColor=INK,
+            textAnchor="middle",
+        )
+    )
+    y_label = Group(
+        String(
+            0,
+            0,
+            words[1],
+            fontName=FONT,
+            fontSize=LABEL_SIZE + 0.5,
+            fillColor=INK,
+            textAnchor="middle",
+        )
+    )
+    y_label.transform = (0, 1, -1, 0, left - AXIS_LEFT + 9, bottom + height / 2)
+    drawing.add(y_label)
 
 
 def readings_plot(test: dict, width: float, height: float) -> Drawing:
@@ -128,8 +201,8 @@ def readings_plot(test: dict, width: float, height: float) -> Drawing:
         + [float(r["load_voltage"]) for r in readings]
         + [1.0]
     )
-    x_ticks, x_labels = _axis_ticks(x_max)
-    y_ticks, y_labels = _axis_ticks(y_max)
+    x_ticks, x_labels = axis_ticks(x_max)
+    y_ticks, y_labels = axis_ticks(y_max)
     plot_width = width - AXIS_LEFT - LEGEND_GAP - LEGEND_WIDTH
     plot_height = height - AXIS_BOTTOM - TOP_PAD
 
@@ -140,50 +213,8 @@ def readings_plot(test: dict, width: float, height: float) -> Drawing:
         return AXIS_BOTTOM + float(volts) / y_ticks[-1] * plot_height
 
     drawing = Drawing(width, height)
-    for value, label in zip(x_ticks, x_labels):
-        drawing.add(
-            Line(
-                px(value),
-                AXIS_BOTTOM,
-                px(value),
-                AXIS_BOTTOM + plot_height,
-                strokeColor=GRID,
-                strokeWidth=0.5,
-            )
-        )
-        drawing.add(
-            String(
-                px(value),
-                AXIS_BOTTOM - 9,
-                label,
-                fontName=FONT,
-                fontSize=LABEL_SIZE,
-                fillColor=INK,
-                textAnchor="middle",
-            )
-        )
-    for value, label in zip(y_ticks, y_labels):
-        drawing.add(
-            Line(
-                AXIS_LEFT,
-                py(value),
-                AXIS_LEFT + plot_width,
-                py(value),
-                strokeColor=GRID,
-                strokeWidth=0.5,
-            )
-        )
-        drawing.add(
-            String(
-                AXIS_LEFT - 4,
-                py(value) - 2.5,
-                label,
-                fontName=FONT,
-                fontSize=LABEL_SIZE,
-                fillColor=INK,
-                textAnchor="end",
-            )
-        )
+    box = (AXIS_LEFT, AXIS_BOTTOM, plot_width, plot_height)
+    draw_grid(drawing, box, (x_ticks, x_labels), (y_ticks, y_labels))
 
     upper = [(px(x), py(y)) for x, y in zip(sources, curve["load_voltage_high"])]
     lower = [(px(x), py(y)) for x, y in zip(sources, curve["load_voltage_low"])]
@@ -204,47 +235,14 @@ def readings_plot(test: dict, width: float, height: float) -> Drawing:
             strokeWidth=1.3,
         )
     )
-    drawing.add(
-        Rect(
-            AXIS_LEFT,
-            AXIS_BOTTOM,
-            plot_width,
-            plot_height,
-            fillColor=None,
-            strokeColor=INK,
-            strokeWidth=0.8,
-        )
-    )
+    draw_frame(drawing, box)
     for reading in readings:
         shape, colour, _ = _status_marker(reading["status"])
         drawing.add(
             marker(shape, px(reading["source_voltage"]), py(reading["load_voltage"]), colour)
         )
 
-    drawing.add(
-        String(
-            AXIS_LEFT + plot_width / 2,
-            5,
-            "Source voltage [V RMS]",
-            fontName=FONT,
-            fontSize=LABEL_SIZE + 0.5,
-            fillColor=INK,
-            textAnchor="middle",
-        )
-    )
-    y_label = Group(
-        String(
-            0,
-            0,
-            "Voltage at the unit [V RMS]",
-            fontName=FONT,
-            fontSize=LABEL_SIZE + 0.5,
-            fillColor=INK,
-            textAnchor="middle",
-        )
-    )
-    y_label.transform = (0, 1, -1, 0, 9, AXIS_BOTTOM + plot_height / 2)
-    drawing.add(y_label)
+    draw_axis_labels(drawing, box, ("Source voltage [V RMS]", "Voltage at the unit [V RMS]"))
     drawing.add(
         _legend(
             {r["status"] for r in readings}, AXIS_LEFT + plot_width + LEGEND_GAP, height - TOP_PAD
