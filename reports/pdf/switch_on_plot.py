@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from reportlab.graphics.shapes import Circle, Drawing, Group, Line, PolyLine, Rect, String
 from reportlab.lib import colors
+from reportlab.pdfbase.pdfmetrics import stringWidth
 
 from shop.bench import switch_on_look as look
 
@@ -83,40 +84,61 @@ def switch_on_plot(switch_on: dict, width: float, height: float) -> tuple[Drawin
                 strokeDashArray=[1, 1.5],
             )
         )
+    labels = []  # drawn last, each on a white ground, so that no line runs through them
     steady = switch_on.get("steady_current")
     if steady is not None:
         y = py(steady)
-        _marked_line(
-            drawing,
-            (AXIS_LEFT, y, AXIS_LEFT + plot_width, y, 0.6, [4, 2]),
-            _label(AXIS_LEFT + plot_width - 3, y - 8, f"steady {steady:.3f} A RMS", "end"),
+        _dashed(drawing, (AXIS_LEFT, y, AXIS_LEFT + plot_width, y, 0.6, [4, 2]))
+        labels.append(
+            _label(AXIS_LEFT + plot_width - 3, y - 8, f"steady {steady:.3f} A RMS", "end")
         )
     stretches, unnamed = _glow_line(drawing, moments, px, py, box)
     settle = switch_on.get("settle_time")
     if settle is not None:
+        # Under the inrush label, on the side of the line with room.
         x = px(settle)
-        _marked_line(
-            drawing,
-            (x, AXIS_BOTTOM, x, AXIS_BOTTOM + plot_height, 0.9, [3, 2]),
-            _label(x + 3, AXIS_BOTTOM + 3, f"settled at {look.seconds(settle)}"),
+        words = f"settled at {look.seconds(settle)}"
+        labels.append(
+            _label(x - 3, AXIS_BOTTOM + plot_height - 19, words, "end")
+            if x > AXIS_LEFT + 0.7 * plot_width
+            else _label(x + 3, AXIS_BOTTOM + plot_height - 19, words)
         )
+        _dashed(drawing, (x, AXIS_BOTTOM, x, AXIS_BOTTOM + plot_height, 0.9, [3, 2]))
     inrush = look.inrush_moment(moments)
     if inrush is not None and switch_on.get("inrush_peak_current") is not None:
         x, y = px(inrush["time"]), py(switch_on["inrush_peak_current"])
         drawing.add(Circle(x, y, 2.6, fillColor=INK, strokeColor=None))
         label_y = min(y - 2.5, AXIS_BOTTOM + plot_height - 9)
-        drawing.add(_label(x + 6, label_y, look.inrush_words(switch_on, inrush)))
+        labels.append(_label(x + 6, label_y, look.inrush_words(switch_on, inrush)))
+    for label in labels:
+        drawing.add(_on_white(label))
     draw_frame(drawing, box)
     draw_axis_labels(drawing, box, ("Time since switch-on [s]", "Lamp current [A]"))
     drawing.add(_key(switch_on, moments, AXIS_LEFT + plot_width + LEGEND_GAP, height))
     return drawing, stretches, unnamed
 
 
-def _marked_line(drawing: Drawing, line: tuple, label: String) -> None:
-    """A dashed line (x1, y1, x2, y2, width, dashes) [pt] in the steady colour, and its label."""
+def _dashed(drawing: Drawing, line: tuple) -> None:
+    """A dashed line (x1, y1, x2, y2, width, dashes) [pt] in the steady colour."""
     *ends, width, dashes = line
     drawing.add(Line(*ends, strokeColor=STEADY_LINE, strokeWidth=width, strokeDashArray=dashes))
-    drawing.add(label)
+
+
+def _on_white(label: String) -> Group:
+    """A label over a white box of its size."""
+    width = stringWidth(label.text, label.fontName, label.fontSize)
+    left = {"start": label.x, "middle": label.x - width / 2, "end": label.x - width}[
+        label.textAnchor
+    ]
+    ground = Rect(
+        left - 1,
+        label.y - 2,
+        width + 2,
+        label.fontSize + 2,
+        fillColor=colors.white,
+        strokeColor=None,
+    )
+    return Group(ground, label)
 
 
 def _glow_line(drawing: Drawing, moments: list[dict], px, py, box: tuple) -> tuple[int, int]:

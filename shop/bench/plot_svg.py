@@ -340,10 +340,18 @@ def switch_on_panel(svg, switch_on: dict, top: float) -> None:
     stretches, unnamed = _glow_line(panel, moments, px, py, top)
     settle = switch_on.get("settle_time")
     if settle is not None:
+        # Under the inrush label, on the side of the line with room.
+        x = px(settle)
+        left_of_line = x > LEFT + 0.7 * plot_w
         _marked_line(
             panel,
-            (px(settle), plot_top, px(settle), plot_top + plot_h),
-            (px(settle) + 4, plot_top + plot_h - 6, f"settled at {look.seconds(settle)}", "start"),
+            (x, plot_top, x, plot_top + plot_h),
+            (
+                x - 4 if left_of_line else x + 4,
+                plot_top + 30,
+                f"settled at {look.seconds(settle)}",
+                "end" if left_of_line else "start",
+            ),
             ("settle-time", "1.2", "5 3"),
         )
     inrush = look.inrush_moment(moments)
