@@ -84,6 +84,7 @@ from shop.physics.circuit import (
 )
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.switch_mode import CANNOT_RUN_SENTENCE
+from shop.physics.switch_mode_start import CYCLING, DOES_NOT_START
 from shop.physics.transient import switch_on
 
 OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
@@ -183,6 +184,9 @@ SWITCH_ON_SECONDS = 180.0  # [s]
 # Draws a reading during the switch-on is placed among (log-spaced multiples of the declared
 # load); fewer and narrower than the steady search, since every one is a transient to follow.
 SWITCH_ON_DRAWS = np.geomspace(0.1, 10.0, 9)
+# A switch-mode unit that cannot run is followed this long from switch-on to see it restart:
+# several restarts at the default start delay (shop.physics.switch_mode_start).
+CANNOT_RUN_SECONDS = 2.0  # [s]
 JUDGED_AGAINST = ("steady_state", "switch_on")
 # A predicted reading whose scale value misses the measured one by more than this after the
 # draw search lies on the edge of the draws that let the unit run: the reading shows more
@@ -1015,7 +1019,9 @@ def judge(
     declared = f"a healthy {float(np.max(load.rated_power)):.3g} W unit"
     reasons = _draw_reasons(readings, judged, declared, getattr(load, "constant_power", False))
     reasons += _glow_reasons(readings, judged, load, declared)
-    reasons += _cannot_run_reasons(readings, judged, declared)
+    reasons += _cannot_run_reasons(
+        readings, judged, declared, lamp, load, source_resistance, frequency
+    )
     reasons += _not_settled_reasons(readings, not_settled)
     if not any(reason.outcome != "pass" for reason in reasons):
         reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
@@ -1169,21 +1175,51 @@ def _glow_reasons(readings, judged, load, declared):
     return reasons
 
 
-def _cannot_run_reasons(readings, judged, declared):
+def _cannot_run_reasons(readings, judged, declared, lamp, load, source_resistance, frequency):
     hits = [item for item in judged if item.status == LOAD_CANNOT_RUN]
     if not hits:
         return []
     top = max(hits, key=lambda item: readings[item.index].source_voltage)
     more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
+    source = readings[top.index].source_voltage
     return [
         Reason(
             LOAD_CANNOT_RUN,
-            f"at {_volts(readings[top.index].source_voltage)} source {declared} "
-            f"{CANNOT_RUN_SENTENCE}, so the reading cannot be judged; use a larger lamp"
-            f"{more}",
+            f"at {_volts(source)} source {declared} {CANNOT_RUN_SENTENCE}"
+            f"{_restarting(lamp, load, source, source_resistance, frequency)}, so the "
+            f"reading cannot be judged; use a larger lamp{more}",
             top.index,
         )
     ]
+
+
+def _restarting(lamp, load, source, source_resistance, frequency):
+    """What a healthy switch-mode unit's own switch-on shows at this source, as a clause.
+
+    Its switch-on (:func:`shop.physics.switch_mode_start.switch_mode_switch_on`, through
+    :func:`switch_on`) follows the reservoir and the converter's start and stop: the glow
+    pulsing with the restarts is what to look for. Empty where that model does not apply.
+    """
+    if not getattr(load, "constant_power", False) or np.ndim(load.rated_power) != 0:
+        return ""
+    result = switch_on(
+        lamp,
+        load,
+        source,
+        source_resistance=source_resistance,
+        frequency=frequency,
+        duration=CANNOT_RUN_SECONDS,
+    )
+    behaviour = str(np.ravel(result.behaviour)[0])
+    period = float(np.ravel(getattr(result, "cycle_period", np.nan))[0])
+    if behaviour == DOES_NOT_START:
+        return " (its reservoir never reaches the start voltage here: it stays off)"
+    if behaviour == CYCLING and np.isfinite(period):
+        return (
+            f" (its own switch-on here restarts about every {period:.2g} s: the lamp's "
+            "glow pulses with it)"
+        )
+    return ""
 
 
 def _completion_reason(readings, judged, nominal, full_fraction):

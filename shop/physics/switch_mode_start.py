@@ -17,9 +17,9 @@ from shop.physics.transient import (
 )
 from shop.physics.warm_up import lamp_filaments
 
-CYCLES = "cycles"
+CYCLING = "cycling"
 DOES_NOT_START = "does_not_start"
-BEHAVIOURS = (STEADY, FLASH_THEN_DIMS, CYCLES, DOES_NOT_START)
+BEHAVIOURS = (STEADY, FLASH_THEN_DIMS, CYCLING, DOES_NOT_START)
 # Steps per mains cycle. Each step solves the reservoir's charging in closed form against a
 # parabola through the source (exact for that piece however stiff the charging), so the step
 # need only follow the lamp's resistance and the converter's current: from 48 to 1024 steps
@@ -54,7 +54,7 @@ LOWEST_RUNNING_VOLTAGE = 1.0  # [V]
 class SwitchModeTransient(SwitchOnTransient):
     """A switch-mode input's switch-on: the fields of :class:`SwitchOnTransient` and more.
 
-    ``behaviour`` is also ``"cycles"`` (``CYCLES``) or ``"does_not_start"``;
+    ``behaviour`` is also ``"cycling"`` (``CYCLING``) or ``"does_not_start"``;
     ``steady_current``, ``settle_time`` are NaN and ``steady_glow`` empty where the unit
     cycles or never starts.
 
@@ -164,7 +164,7 @@ def switch_mode_switch_on(
     crest, so a larger RMS current.
 
     ``behaviour`` is ``"does_not_start"`` where the converter never starts within the run
-    (a source too low, or a run shorter than the start delay), ``"cycles"``
+    (a source too low, or a run shorter than the start delay), ``"cycling"``
     where it starts again in the second half of the run or never runs periodically,
     ``"flash_then_dims"`` where the lamp glows brighter at some time than at its periodic
     state, else ``"steady"``.
@@ -574,7 +574,7 @@ def _figures(record, bridge, emf, copies, shape, step, halves, duration, filamen
     behaviour = np.where(
         count == 0,
         DOES_NOT_START,
-        np.where(~periodic, CYCLES, np.where(flash, FLASH_THEN_DIMS, STEADY)),
+        np.where(~periodic, CYCLING, np.where(flash, FLASH_THEN_DIMS, STEADY)),
     )
     later, skipped = np.where(count >= 3, second_start, first_start), np.where(count >= 3, 2, 1)
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -150,8 +150,11 @@ def switch_on(
     lamp : Lamp or LampBank
         The series lamp, cold at the bench's ambient at switch-on.
     load : load
-        The unit: resistive, heater, transformer, rectifier or a composite of them (a
-        constant-power input is refused: its steady state says whether it runs).
+        The unit: resistive, heater, transformer, rectifier or a composite of them, or a
+        constant-power (switch-mode) input, which is handed to
+        :func:`shop.physics.switch_mode_start.switch_mode_switch_on` (a bridge and reservoir
+        behind the lamp; it may cycle or not start) with the same arguments but
+        ``remanence``, which it has no core for.
     source_voltage : numeric
         RMS source voltage switched on [V], broadcast against the load's draw factor.
     source_resistance : float, default 0.0
@@ -193,6 +196,20 @@ def switch_on(
     ``DETAILED_SECONDS`` a unit's heaters are followed alone, quasi-statically (see
     :mod:`shop.physics.warm_up`), from the temperatures the detailed part left them at.
     """
+    if getattr(load, "constant_power", False):
+        # Imported here: that module builds on this one's result type.
+        from shop.physics.switch_mode_start import switch_mode_switch_on
+
+        return switch_mode_switch_on(
+            lamp,
+            load,
+            source_voltage,
+            source_resistance=source_resistance,
+            frequency=frequency,
+            phase=phase,
+            duration=duration,
+            lamp_bypassed=lamp_bypassed,
+        )
     network = Network(load, frequency)
     source = np.asarray(source_voltage, dtype=float)
     shape = np.broadcast_shapes(source.shape, network.factor.shape)

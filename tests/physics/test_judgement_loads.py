@@ -1,5 +1,6 @@
 """Judging and advising on real units: valve sets and switch-mode inputs."""
 
+import re
 from dataclasses import asdict
 
 import numpy as np
@@ -107,6 +108,9 @@ def test_through_too_small_a_lamp_a_healthy_switch_mode_unit_cannot_be_judged():
     assert verdict.codes == (LOAD_CANNOT_RUN,)
     assert "cannot draw its rated power through this lamp" in verdict.reasons[0].message
     assert verdict.readings[-1].predicted_state == NO_OPERATING_POINT
+    # The reason says what to watch for, from the unit's own switch-on at that source: a
+    # glow pulsing as it restarts (shop.physics.switch_mode_start).
+    assert re.search(r"restarts about every [0-9.]+ s", verdict.reasons[0].message)
 
 
 def test_a_shorted_switch_mode_unit_fails_even_below_its_start_voltage():

@@ -13,7 +13,7 @@ from shop.physics.switch_mode import RESERVOIR_PER_WATT, ConstantPowerLoad
 from shop.physics.switch_mode_start import (
     BRIDGE_DROP,
     BRIDGE_RESISTANCE,
-    CYCLES,
+    CYCLING,
     DOES_NOT_START,
     SwitchModeTransient,
     switch_mode_switch_on,
@@ -189,7 +189,7 @@ def test_the_adapters_peaky_input_draws_more_current_than_its_power_over_the_vol
 
 def test_a_unit_drawing_far_more_than_a_small_lamp_passes_cycles():
     result = switch_mode_switch_on(LAMP_25, LAPTOP, 230.0, frequency=50.0, duration=2.0)
-    assert result.behaviour == CYCLES
+    assert result.behaviour == CYCLING
     assert result.restarts > 1
     assert np.isnan(result.steady_current) and np.isnan(result.settle_time)
     assert result.steady_glow == ""
@@ -206,7 +206,7 @@ def test_without_a_start_delay_it_cycles_faster_through_the_reservoir_alone():
     eager = ConstantPowerLoad(90.0, rated_voltage=100.0, start_delay=0.0)
     result = switch_mode_switch_on(LAMP_25, eager, 230.0, frequency=50.0, duration=1.0)
     delayed = switch_mode_switch_on(LAMP_25, LAPTOP, 230.0, frequency=50.0, duration=1.0)
-    assert result.behaviour == CYCLES
+    assert result.behaviour == CYCLING
     # Recharging across the start-stop band through the hot lamp takes a cycle or two.
     assert 0.0 < float(result.cycle_period) < float(delayed.cycle_period)
 

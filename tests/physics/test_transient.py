@@ -168,6 +168,12 @@ def test_every_source_voltage_is_a_column():
     assert (result.inrush_peak[:, 1] > result.inrush_peak[:, 0]).all()
 
 
-def test_a_constant_power_input_has_no_switch_on_model():
-    with pytest.raises(ValueError, match="constant-power input has no time-domain model"):
-        switch_on(LAMP_100, ConstantPowerLoad(20.0), 120.0)
+def test_a_constant_power_input_is_switched_on_through_its_own_model():
+    from shop.physics.switch_mode_start import SwitchModeTransient, switch_mode_switch_on
+
+    load = ConstantPowerLoad(20.0)
+    result = switch_on(LAMP_100, load, 120.0, duration=0.5)
+    assert isinstance(result, SwitchModeTransient)
+    alone = switch_mode_switch_on(LAMP_100, load, 120.0, duration=0.5)
+    assert_allclose(result.current, alone.current)
+    assert result.behaviour == alone.behaviour
