@@ -32,6 +32,8 @@ bench: install
 	$(BIN)/python bench/service_bench.py
 	$(BIN)/python bench/report_bench.py
 	$(BIN)/python bench/loads_bench.py
+	$(BIN)/python bench/switch_mode_bench.py
+	$(BIN)/python bench/warm_up_bench.py
 	$(MAKE) bench-large
 
 # The large-shop benchmarks: seeds 10,000 jobs per database (SQLite and PostgreSQL) and serves
