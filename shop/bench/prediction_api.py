@@ -104,11 +104,14 @@ class SwitchOnSerializer(serializers.Serializer):
     )
     followed_for = serializers.FloatField(help_text="Time followed [s].")
     behaviour = serializers.CharField(
-        help_text="flash_then_dims or steady; later models add others (cycles, "
-        "does_not_start): behaviour_words says any of them in plain words."
+        help_text="steady, flash_then_dims, cycling (a switch-mode unit restarting) or "
+        "does_not_start; models may add others: behaviour_words says any of them in words."
     )
     behaviour_words = serializers.CharField(help_text="The behaviour as one sentence.")
-    steady_glow = serializers.CharField(help_text="Glow class once settled.")
+    steady_glow = serializers.CharField(
+        allow_null=True,
+        help_text="Glow class once settled; null where the unit has no steady state.",
+    )
     glow_over_time = GlowMomentSerializer(
         many=True,
         help_text=f"At most {MAX_SWITCH_ON_POINTS} moments, in time order: every moment while "

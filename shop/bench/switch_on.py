@@ -33,14 +33,18 @@ _remembered: OrderedDict[str, str] = OrderedDict()
 _lock = threading.Lock()
 BRIGHT_GLOWS = ("bright",)
 
-# Behaviour codes of shop.physics.transient (and those its models are growing to), in words.
+# Behaviour codes of shop.physics.transient and shop.physics.switch_mode_start, in words.
 # "{peak}" and "{steady}" are glow class names. A code not listed here is said by
 # `behaviour_sentence`'s fallback, never refused.
+CYCLING_WORDS = (
+    "Cycles: a switch-mode unit restarting; the lamp pulses as the unit starts, drops out "
+    "and tries again."
+)
 BEHAVIOUR_WORDS = {
     "flash_then_dims": "Flash at switch-on, then dims: the lamp glows up to {peak} and falls "
     "back towards {steady} as the unit warms.",
-    "cycles": "Cycles: a switch-mode unit restarting; the lamp pulses as the unit starts, "
-    "drops out and tries again.",
+    "cycling": CYCLING_WORDS,
+    "cycles": CYCLING_WORDS,
     "does_not_start": "Does not start: the unit never draws its running current through this lamp.",
 }
 STEADY_DIM = "No flash: the lamp warms to a steady {steady} glow and stays there."
@@ -63,17 +67,18 @@ def _glow_rank(name: str) -> int:
     return GLOW_CLASSES.index(name) if name in GLOW_CLASSES else -1
 
 
-def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str) -> str:
+def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str | None) -> str:
     """The switch-on behaviour in plain words, for any behaviour code.
 
     Parameters
     ----------
     behaviour : str
-        The transient's behaviour code ("flash_then_dims", "steady", "cycles", ...).
+        The transient's behaviour code ("flash_then_dims", "steady", "cycling", ...).
     glow : list of str
         Glow class over time (any non-empty selection of moments that holds the brightest).
-    steady_glow : str
-        Glow class at the steady state.
+    steady_glow : str or None
+        Glow class at the steady state; None (or "") where the unit has none through this
+        lamp.
 
     Returns
     -------
@@ -81,6 +86,8 @@ def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str) -> str
         One sentence; a code without words of its own is said as its words with the glow
         it reaches, so a new behaviour of the physics never breaks an answer.
     """
+    settled = f"{steady_glow} at steady state" if steady_glow else "never steady"
+    steady_glow = steady_glow or "its steady glow"
     peak = max(glow, key=_glow_rank) if glow else steady_glow
     if behaviour == "steady":
         if steady_glow in BRIGHT_GLOWS:
@@ -91,10 +98,7 @@ def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str) -> str
     if behaviour in BEHAVIOUR_WORDS:
         return BEHAVIOUR_WORDS[behaviour].format(peak=peak, steady=steady_glow)
     words = behaviour.replace("_", " ").strip() or "not described"
-    return (
-        f"Switch-on behaviour: {words}; the lamp glows up to {peak} and is {steady_glow} "
-        "at steady state."
-    )
+    return f"Switch-on behaviour: {words}; the lamp glows up to {peak} and is {settled}."
 
 
 def _spread(candidates: np.ndarray, room: int) -> np.ndarray:
@@ -213,9 +217,10 @@ def computed_block(
         ``steady_current`` (RMS, null without a steady operating point) [A];
         ``settle_time`` [s] (null if not within 10 % of steady in the time followed);
         ``followed_for`` [s]; ``behaviour`` (the physics' code), ``behaviour_words``;
-        ``steady_glow``; ``glow_over_time``: at most ``MAX_POINTS`` moments of ``time`` [s],
-        ``glow``, ``current`` (RMS over the half cycle ending then; over the cycle then where
-        the physics follows a slow warm-up in steps) and ``peak_current`` [A].
+        ``steady_glow`` (null without a steady state); ``glow_over_time``: at most
+        ``MAX_POINTS`` moments of ``time`` [s], ``glow``, ``current`` (RMS over the half
+        cycle ending then; over the cycle then where the physics follows a slow warm-up in
+        steps) and ``peak_current`` [A].
 
     Raises
     ------
@@ -240,7 +245,7 @@ def computed_block(
     if math.isfinite(settle) and moments:
         keep.append(int(transient.at(settle)))
     kept = thinned_indices(glow, keep) if moments else []
-    steady_glow = str(np.ravel(transient.steady_glow)[0])
+    steady_glow = str(np.ravel(transient.steady_glow)[0]) or None  # "": no steady state
     behaviour = str(np.ravel(transient.behaviour)[0])
     return {
         "source_voltage": float(source_voltage),

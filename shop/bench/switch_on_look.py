@@ -136,6 +136,8 @@ def settling_sentence(switch_on: dict) -> str:
     settle = switch_on.get("settle_time")
     if settle is not None:
         return f"Within 10 % of the steady current from {seconds(settle)} on."
+    if switch_on.get("steady_current") is None:
+        return "No steady current: the unit does not settle through this lamp."
     followed = switch_on.get("followed_for") or 0.0
     return f"Not within 10 % of the steady current in the {seconds(followed)} followed."
 

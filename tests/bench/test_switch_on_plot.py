@@ -12,7 +12,7 @@ import pytest
 from shop.bench import services
 from shop.bench import switch_on as switch_on_module
 from shop.bench.switch_on import MAX_POINTS, behaviour_sentence, switch_on_block, thinned_indices
-from shop.bench.switch_on_look import GLOW_COLOURS, glow_colour, name_rows
+from shop.bench.switch_on_look import GLOW_COLOURS, glow_colour, name_rows, settling_sentence
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.lamp import Lamp
 
@@ -32,6 +32,11 @@ VALVE_RADIO = {
     },
 }
 RESISTANCE = {"kind": "resistive", "parameters": {"resistance": 240}, "basis": "estimate"}
+SWITCH_MODE = {
+    "kind": "constant_power",
+    "parameters": {"power": 90, "voltage": 120},
+    "basis": "estimate",
+}
 STEPS = (30.0, 60.0, 90.0, 110.0)
 
 
@@ -106,14 +111,14 @@ def test_a_glow_that_changes_more_often_than_the_cap_still_keeps_the_cap_and_the
 # The block, from a transient the physics may give (long, or of a switch-mode unit) ---------
 
 
-def transient(count: int, behaviour: str, steady_current=0.3):
+def transient(count: int, behaviour: str, steady_current=0.3, steady_glow="dull"):
     """A stand-in for shop.physics.transient.SwitchOnTransient of one column."""
     time = np.concatenate([np.arange(1, 121) / 120, 1 + np.arange(1, count - 119) / 50])
     glow = glow_series(count, 60)
     current = np.where(glow == "bright", 0.6, 0.3)
     peak = 1.5 * current
     peak[2] = 4.0
-    settle = float(time[count // 3])
+    settle = math.nan if math.isnan(steady_current) else float(time[count // 3])
     return SimpleNamespace(
         time=time,
         current=current,
@@ -122,7 +127,7 @@ def transient(count: int, behaviour: str, steady_current=0.3):
         inrush_peak=np.array(4.0),
         steady_current=np.array(steady_current),
         settle_time=np.array(settle),
-        steady_glow=np.array("dull"),
+        steady_glow=np.array(steady_glow),
         behaviour=np.array(behaviour),
         at=lambda seconds: int(np.searchsorted(time, seconds)),
     )
@@ -178,10 +183,16 @@ def test_a_long_switch_on_is_thinned_with_its_inrush_settling_and_glow_changes(f
 def test_a_switch_mode_unit_that_cycles_is_said_in_words_and_a_missing_steady_state_is_null(
     fake_physics,
 ):
-    fake_physics(transient(400, "cycles", steady_current=math.nan))
+    # shop.physics.switch_mode_start: NaN steady current and an empty steady glow where the
+    # unit never reaches a steady state.
+    fake_physics(transient(400, "cycling", steady_current=math.nan, steady_glow=""))
     block = block_of()
     assert block["steady_current"] is None
+    assert block["steady_glow"] is None
     assert block["behaviour_words"].startswith("Cycles: a switch-mode unit restarting")
+    assert settling_sentence(block) == (
+        "No steady current: the unit does not settle through this lamp."
+    )
 
 
 def test_the_same_switch_on_is_computed_once_and_each_caller_gets_its_own_copy(fake_physics):
@@ -199,8 +210,12 @@ def test_the_same_switch_on_is_computed_once_and_each_caller_gets_its_own_copy(f
 
 def test_a_behaviour_the_code_does_not_know_is_said_in_plain_words():
     words = behaviour_sentence("hiccups_twice", ["dark", "bright", "dull"], "dull")
-    assert words.startswith("Switch-on behaviour: hiccups twice")
-    assert "bright" in words
+    assert words == (
+        "Switch-on behaviour: hiccups twice; the lamp glows up to bright and is dull at "
+        "steady state."
+    )
+    words = behaviour_sentence("hiccups_twice", ["dark", "faint"], None)
+    assert words.endswith("glows up to faint and is never steady.")
 
 
 def test_the_behaviour_words_of_the_known_codes():
@@ -293,6 +308,32 @@ def test_a_unit_the_switch_on_cannot_follow_is_said_in_a_line_instead_of_a_panel
     said = " ".join(texts(root, "switch-on-refused"))
     assert said.startswith("Switch-on not drawn: the model cannot follow this unit")
     assert "no model of this unit in time" in said
+
+
+def test_the_plot_of_a_switch_mode_unit_draws_its_switch_on_from_the_physics(
+    testing_job, rig, lamps, staff, meter, client_for
+):
+    from shop.bench import judging, selectors
+
+    test = closed_test(
+        testing_job,
+        rig,
+        lamps[25],
+        staff,
+        meter,
+        SWITCH_MODE,
+        steps=(120.0,),
+    )
+    inputs = judging.verdict_inputs(test, list(test.readings.all()))
+    block = selectors.healthy_switch_on(inputs)
+    response = client_for("technician").get(f"/api/powerups/{test.pk}/plot.svg")
+    assert response.status_code == 200
+    assert "None" not in response.content.decode()
+    panel = ET.fromstring(response.content).find(f".//{SVG}g[@class='switch-on']")
+    assert panel is not None
+    notes = " ".join(texts(panel, "switch-on-note"))
+    assert block["behaviour_words"][:40] in notes
+    assert texts(panel, "glow-name")
 
 
 # The prediction's answer -----------------------------------------------------------------

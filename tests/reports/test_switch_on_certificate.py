@@ -80,7 +80,7 @@ def long_block(behaviour: str, words: str | None) -> dict:
     block = {
         "source_voltage": 120.0,
         "inrush_peak_current": 1.6,
-        "steady_current": None,
+        "steady_current": 0.35,
         "settle_time": None,
         "followed_for": 30.0,
         "behaviour": behaviour,
