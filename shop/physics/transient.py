@@ -26,6 +26,37 @@ FLASH_THEN_DIMS = "flash_then_dims"
 STEADY = "steady"
 
 
+# How long a switch-on is worth following (follow_time): a lamp settles within a tenth of a
+# second, a capacitor input within a few mains cycles; a valve set's heaters and valve
+# rectifier take their time constants several times over (settling within 10 % takes two to
+# three heater time constants: shop/physics/judgement.py's SWITCH_ON_SECONDS notes); a
+# switch-mode unit shows several restarts, if it restarts, in two seconds at its default
+# start delay.
+QUICK_FOLLOW = 0.5  # [s]
+SLOW_SPANS = 4.0
+SWITCH_MODE_FOLLOW = 2.0  # [s]
+LONGEST_FOLLOW = 180.0  # [s]
+
+
+def follow_time(load):
+    """How long to follow a unit's switch-on to see it settle [s].
+
+    ``QUICK_FOLLOW`` for lamps, resistances, transformers and silicon rectifiers;
+    ``SLOW_SPANS`` times the slowest heater's warm-up time or valve rectifier's warm-up
+    (at most ``LONGEST_FOLLOW``) for a valve set; ``SWITCH_MODE_FOLLOW`` for a switch-mode
+    input, long enough to show it restarting.
+    """
+    if getattr(load, "constant_power", False):
+        return SWITCH_MODE_FOLLOW
+    slowest = 0.0
+    for member in getattr(load, "members", (load,)):
+        if getattr(member, "members", None) is not None:
+            slowest = max(slowest, follow_time(member) / SLOW_SPANS)
+            continue
+        slowest = max(slowest, float(getattr(member, "warm_up_time", 0.0) or 0.0))
+    return float(np.clip(SLOW_SPANS * slowest, QUICK_FOLLOW, LONGEST_FOLLOW))
+
+
 @dataclass(frozen=True)
 class SwitchOnTransient:
     """A switch-on, row by row over time, and the figures the verdict and the plot use.

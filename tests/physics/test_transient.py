@@ -177,3 +177,30 @@ def test_a_constant_power_input_is_switched_on_through_its_own_model():
     alone = switch_mode_switch_on(LAMP_100, load, 120.0, duration=0.5)
     assert_allclose(result.current, alone.current)
     assert result.behaviour == alone.behaviour
+
+
+def test_follow_time_covers_a_valve_set_warming_and_a_switch_mode_unit_restarting():
+    from shop.physics.nameplate import unit_load_from_nameplate
+    from shop.physics.transient import (
+        QUICK_FOLLOW,
+        SLOW_SPANS,
+        SWITCH_MODE_FOLLOW,
+        follow_time,
+    )
+
+    radio = unit_load_from_nameplate(
+        rated_voltage=120.0,
+        rated_power=65.0,
+        category="radio",
+        construction="isolating_transformer",
+        year=1954,
+        rated_frequency=60.0,
+    )
+    # Its heaters and valve rectifier both take 10 s (the nameplate's defaults).
+    assert follow_time(radio) == SLOW_SPANS * 10.0
+    assert follow_time(ResistiveLoad(100.0)) == QUICK_FOLLOW
+    assert follow_time(ConstantPowerLoad(5.0)) == SWITCH_MODE_FOLLOW
+    # Followed that long through a 100 W lamp, the radio settles inside it (tests/physics/
+    # test_warm_up.py measures about 19 s at 120 V).
+    result = switch_on(LAMP_100, radio, 120.0, duration=follow_time(radio), remanence=False)
+    assert float(result.settle_time) < follow_time(radio)
