@@ -287,7 +287,7 @@ def switch_on(
     steps += steps % 2  # whole half cycles
     half_steps = steps // 2
     step = network.period / steps
-    # Beyond the first second heaters warm on their own slow time: the warm-up module follows.
+    # Beyond DETAILED_SECONDS heaters warm on their own slow time: the warm-up module follows.
     slow = bool(network.heaters) and duration > DETAILED_SECONDS
     detailed = DETAILED_SECONDS if slow else duration
     halves = max(int(np.ceil(detailed / (network.period / 2))), 1)

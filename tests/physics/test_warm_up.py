@@ -202,8 +202,9 @@ def test_in_the_slow_phase_a_time_is_read_at_the_nearest_instant():
     assert result.time[result.at(5.0 + 0.4 * step)] == pytest.approx(5.0)
     assert result.time[result.at(5.0 + 0.6 * step)] == pytest.approx(5.0 + step)
     # In the detailed part the half cycle holding it.
-    half = result.at(0.5 + 1e-3)
-    assert result.time[half] - 1.0 / 120.0 < 0.5 + 1e-3 <= result.time[half]
+    inside = DETAILED_SECONDS / 2 + 1e-3
+    half = result.at(inside)
+    assert result.time[half] - 1.0 / 120.0 < inside <= result.time[half]
 
 
 def test_a_short_switch_on_is_followed_in_detail_alone():
