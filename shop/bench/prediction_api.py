@@ -102,7 +102,11 @@ class SwitchOnSerializer(serializers.Serializer):
         help_text="Until the current stays within 10 % of steady [s]; null if "
         "it has not settled in the time followed.",
     )
-    followed_for = serializers.FloatField(help_text="Time followed [s].")
+    followed_for = serializers.FloatField(
+        help_text="Time followed [s]: as long as the unit is worth following (half a second "
+        "for a lamp or a resistance, tens of seconds for a valve set's heaters, 2 s for a "
+        "switch-mode input)."
+    )
     behaviour = serializers.CharField(
         help_text="steady, flash_then_dims, cycling (a switch-mode unit restarting) or "
         "does_not_start; models may add others: behaviour_words says any of them in words."

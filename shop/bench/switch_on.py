@@ -16,13 +16,18 @@ from collections import OrderedDict
 import numpy as np
 
 from shop.physics.glow import GLOW_CLASSES
-from shop.physics.transient import switch_on
+from shop.physics.heater import HeaterLoad
+from shop.physics.loads import ResistiveLoad
+from shop.physics.rectifier import RectifierLoad
+from shop.physics.transformer import TransformerLoad
+from shop.physics.transient import follow_time, switch_on
 
 from .declared_load import physics_load
 from .physics_inputs import physics_limiter
 
-SWITCH_ON_SECONDS = 0.5  # [s] long enough for a lamp to settle; heaters take longer
-# The series grows with the time followed (heaters are followed for tens of seconds): the
+# How long a switch-on is followed unless a caller says: shop.physics.transient.follow_time
+# of the unit (half a second for a lamp, tens of seconds for a valve set's heaters, 2 s for a
+# switch-mode input). The series grows with the time followed: the
 # answer, the plot and the certificate keep at most this many moments of it.
 MAX_POINTS = 200
 ROUND_DIGITS = 4
@@ -42,11 +47,19 @@ CYCLING_WORDS = (
 )
 BEHAVIOUR_WORDS = {
     "flash_then_dims": "Flash at switch-on, then dims: the lamp glows up to {peak} and falls "
-    "back towards {steady} as the unit warms.",
+    "back towards {steady} {cause}.",
     "cycling": CYCLING_WORDS,
     "cycles": CYCLING_WORDS,
     "does_not_start": "Does not start: the unit never draws its running current through this lamp.",
 }
+# What brings the current down after a flash, by what the unit holds (the first that applies):
+# heaters warm (their resistance rises), a reservoir charges, a transformer's core inrush
+# dies away, and with only resistances the lamp's own filament heats.
+HEATERS_WARM = "as the unit's heaters warm"
+RESERVOIR_CHARGES = "as the unit's reservoir charges"
+CORE_SETTLES = "as the transformer's inrush dies away"
+LAMP_HEATS = "as the lamp's filament heats"
+UNIT_SETTLES = "as the unit settles"
 STEADY_DIM = "No flash: the lamp warms to a steady {steady} glow and stays there."
 STEADY_DARK = "No flash: the lamp stays dark."
 # A healthy unit that keeps the lamp bright looks like the fault the lamp is there to show.
@@ -67,7 +80,55 @@ def _glow_rank(name: str) -> int:
     return GLOW_CLASSES.index(name) if name in GLOW_CLASSES else -1
 
 
-def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str | None) -> str:
+def settling_cause(load) -> str:
+    """What brings the lamp's current down after a flash, in words, for a physics load.
+
+    Parameters
+    ----------
+    load : load
+        The unit as ``shop.physics`` models it (a composite is read member by member).
+
+    Returns
+    -------
+    str
+        ``HEATERS_WARM`` where it holds a heater or a valve rectifier, else
+        ``RESERVOIR_CHARGES`` where it holds a reservoir (a rectifier or a switch-mode
+        input), else ``CORE_SETTLES`` where it holds a transformer, else ``LAMP_HEATS``
+        where it is only resistances, else ``UNIT_SETTLES``.
+    """
+    held = _held(load)
+    for part, words in (
+        ("heaters", HEATERS_WARM),
+        ("reservoir", RESERVOIR_CHARGES),
+        ("core", CORE_SETTLES),
+    ):
+        if part in held:
+            return words
+    return LAMP_HEATS if held == {"resistance"} else UNIT_SETTLES
+
+
+def _held(load) -> set[str]:
+    """The parts of a load that shape its switch-on: heaters, reservoir, core, resistance."""
+    members = getattr(load, "members", None)
+    if members is not None:
+        return set().union(*(_held(member) for member in members))
+    if getattr(load, "constant_power", False):
+        return {"reservoir"}  # a switch-mode input: bridge, reservoir, converter
+    if isinstance(load, HeaterLoad):
+        return {"heaters"}
+    if isinstance(load, RectifierLoad):
+        # A valve rectifier warms like a heater before it conducts.
+        return {"heaters" if load.warm_up_time > 0 else "reservoir"}
+    if isinstance(load, TransformerLoad):
+        return {"core"}
+    if isinstance(load, ResistiveLoad):
+        return {"resistance"}
+    return {"unknown"}
+
+
+def behaviour_sentence(
+    behaviour: str, glow: list[str], steady_glow: str | None, cause: str = UNIT_SETTLES
+) -> str:
     """The switch-on behaviour in plain words, for any behaviour code.
 
     Parameters
@@ -79,6 +140,9 @@ def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str | None)
     steady_glow : str or None
         Glow class at the steady state; None (or "") where the unit has none through this
         lamp.
+    cause : str, default UNIT_SETTLES
+        What brings the current down after a flash (:func:`settling_cause`), said after
+        "falls back towards ...".
 
     Returns
     -------
@@ -96,7 +160,7 @@ def behaviour_sentence(behaviour: str, glow: list[str], steady_glow: str | None)
             return STEADY_DARK
         return STEADY_DIM.format(steady=steady_glow)
     if behaviour in BEHAVIOUR_WORDS:
-        return BEHAVIOUR_WORDS[behaviour].format(peak=peak, steady=steady_glow)
+        return BEHAVIOUR_WORDS[behaviour].format(peak=peak, steady=steady_glow, cause=cause)
     words = behaviour.replace("_", " ").strip() or "not described"
     return f"Switch-on behaviour: {words}; the lamp glows up to {peak} and is {settled}."
 
@@ -189,7 +253,7 @@ def computed_block(
     source_resistance: float,
     frequency: float,
     ambient_temperature: float = 300.0,
-    duration: float = SWITCH_ON_SECONDS,
+    duration: float | None = None,
 ) -> dict:
     """Switching the healthy unit on at the crest of `source_voltage`, thinned, as JSON data.
 
@@ -207,8 +271,10 @@ def computed_block(
         Source frequency [Hz].
     ambient_temperature : float, default 300.0
         The bench's ambient [K].
-    duration : float, default SWITCH_ON_SECONDS
-        How long to follow it [s].
+    duration : float, optional
+        How long to follow it [s]; by default as long as the unit is worth following
+        (``shop.physics.transient.follow_time``: half a second for a lamp or resistance, tens
+        of seconds for a valve set's heaters, 2 s for a switch-mode input).
 
     Returns
     -------
@@ -227,13 +293,14 @@ def computed_block(
     ValueError
         Whatever the physics refuses (a unit it cannot follow in time).
     """
+    load = physics_load(declared_load)
     transient = switch_on(
         physics_limiter(limiter, ambient_temperature),
-        physics_load(declared_load),
+        load,
         source_voltage,
         source_resistance=source_resistance,
         frequency=frequency,
-        duration=duration,
+        duration=follow_time(load) if duration is None else duration,
     )
     times = np.asarray(transient.time, dtype=float)
     moments = times.size
@@ -254,7 +321,7 @@ def computed_block(
         "settle_time": _finite(settle),
         "followed_for": round(float(times[-1]), ROUND_DIGITS) if moments else 0.0,
         "behaviour": behaviour,
-        "behaviour_words": behaviour_sentence(behaviour, glow, steady_glow),
+        "behaviour_words": behaviour_sentence(behaviour, glow, steady_glow, settling_cause(load)),
         "steady_glow": steady_glow,
         "glow_over_time": [
             {
