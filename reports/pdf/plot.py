@@ -12,6 +12,7 @@ from reportlab.graphics.shapes import Circle, Drawing, Group, Line, Polygon, Pol
 from reportlab.lib import colors
 
 from shop.bench.plot_svg import MARKERS
+from shop.bench.switch_on_axes import Tick
 
 from .styles import FONT, FONT_BOLD, INK, MUTED
 
@@ -114,36 +115,37 @@ def draw_grid(drawing: Drawing, box: tuple, x_axis: tuple, y_axis: tuple) -> Non
     `box` is (left, bottom, width, height) [pt]; each axis is (ticks, labels) from
     `axis_ticks`, the last tick at the box's far edge.
     """
+    draw_ticks(
+        drawing,
+        box,
+        *(
+            [Tick(float(v), float(v) / float(ticks[-1]), label) for v, label in zip(ticks, labels)]
+            for ticks, labels in (x_axis, y_axis)
+        ),
+    )
+
+
+def draw_ticks(drawing: Drawing, box: tuple, x_ticks: list[Tick], y_ticks: list[Tick]) -> None:
+    """Grid lines and tick labels of a plot whose ticks fall at fractions of each axis.
+
+    `box` is (left, bottom, width, height) [pt]; a tick without a label draws its grid line
+    only (``shop.bench.switch_on_axes.Tick``).
+    """
     left, bottom, width, height = box
-    (x_ticks, x_labels), (y_ticks, y_labels) = x_axis, y_axis
-    for value, label in zip(x_ticks, x_labels):
-        x = left + float(value) / x_ticks[-1] * width
+    for tick in x_ticks:
+        x = left + tick.at * width
         drawing.add(Line(x, bottom, x, bottom + height, strokeColor=GRID, strokeWidth=0.5))
-        drawing.add(
-            String(
-                x,
-                bottom - 9,
-                label,
-                fontName=FONT,
-                fontSize=LABEL_SIZE,
-                fillColor=INK,
-                textAnchor="middle",
-            )
-        )
-    for value, label in zip(y_ticks, y_labels):
-        y = bottom + float(value) / y_ticks[-1] * height
+        if tick.label is not None:
+            drawing.add(_tick_label(x, bottom - 9, tick.label, "middle"))
+    for tick in y_ticks:
+        y = bottom + tick.at * height
         drawing.add(Line(left, y, left + width, y, strokeColor=GRID, strokeWidth=0.5))
-        drawing.add(
-            String(
-                left - 4,
-                y - 2.5,
-                label,
-                fontName=FONT,
-                fontSize=LABEL_SIZE,
-                fillColor=INK,
-                textAnchor="end",
-            )
-        )
+        if tick.label is not None:
+            drawing.add(_tick_label(left - 4, y - 2.5, tick.label, "end"))
+
+
+def _tick_label(x: float, y: float, words: str, anchor: str) -> String:
+    return String(x, y, words, fontName=FONT, fontSize=LABEL_SIZE, fillColor=INK, textAnchor=anchor)
 
 
 def draw_frame(drawing: Drawing, box: tuple) -> None:

@@ -7,11 +7,22 @@ of the lamp's glow and named where it begins, so it reads the same in black and 
 
 from __future__ import annotations
 
-from reportlab.graphics.shapes import Circle, Drawing, Group, Line, PolyLine, Rect, String
+from reportlab.graphics.shapes import (
+    Circle,
+    Drawing,
+    Group,
+    Line,
+    Polygon,
+    PolyLine,
+    Rect,
+    String,
+)
 from reportlab.lib import colors
 from reportlab.pdfbase.pdfmetrics import stringWidth
 
 from shop.bench import switch_on_look as look
+from shop.bench.plot_labels import LabelRoom, polyline_segments
+from shop.bench.switch_on_axes import axes_of, clipped_runs, peaks_clipped
 
 from .plot import (
     AXIS_BOTTOM,
@@ -20,10 +31,9 @@ from .plot import (
     LEGEND_GAP,
     LEGEND_ROW,
     LEGEND_WIDTH,
-    axis_ticks,
     draw_axis_labels,
     draw_frame,
-    draw_grid,
+    draw_ticks,
 )
 from .styles import FONT, FONT_BOLD, INK
 
@@ -35,6 +45,10 @@ PEAK_LINE = colors.HexColor(look.PEAK_LINE)
 STEADY_LINE = colors.HexColor(look.STEADY_LINE)
 GLOW_EDGE = colors.HexColor(look.GLOW_EDGE)
 CHANGE_LINE = colors.HexColor("#b0b0b0")
+TICK_GAP = 4  # [pt] at least between two time labels
+ROW = 9  # [pt] between the rows a label may take
+LINE_CLEARANCE = 1.8  # [pt] half the glow line's stroke, and a little more
+KEY_FOOT = 4  # [pt] the key's last row stays this far above the drawing's bottom
 
 
 def _label(x: float, y: float, words: str, anchor: str = "start", size=LABEL_SIZE) -> String:
@@ -44,12 +58,18 @@ def _label(x: float, y: float, words: str, anchor: str = "start", size=LABEL_SIZ
 def switch_on_plot(switch_on: dict, width: float, height: float) -> tuple[Drawing, int, int]:
     """The lamp's RMS current over a healthy unit's switch-on, with a key on the right.
 
+    Time runs on a logarithmic axis and the current axis is scaled to the RMS current
+    (``shop.bench.switch_on_axes``), as on the web plot; peaks above the frame are clipped and
+    the key says so; labels go where they cover no other label nor a marked line
+    (``shop.bench.plot_labels``).
+
     Parameters
     ----------
     switch_on : dict
         A snapshot test's ``switch_on`` block: ``glow_over_time`` moments (time [s], glow,
         current and peak_current [A]), ``inrush_peak_current``, ``steady_current`` [A],
-        ``settle_time`` and ``followed_for`` [s].
+        ``settle_time`` and ``followed_for`` [s]. Blocks of certificates issued before the
+        log axis carry the same keys and draw the same way.
     width, height : float
         Size of the drawing [pt]; the key takes the right-hand ``LEGEND_WIDTH``.
 
@@ -62,60 +82,121 @@ def switch_on_plot(switch_on: dict, width: float, height: float) -> tuple[Drawin
     moments = look.moments_of(switch_on)
     plot_width = width - AXIS_LEFT - LEGEND_GAP - LEGEND_WIDTH
     plot_height = height - AXIS_BOTTOM - NAME_ROWS * NAME_ROW_HEIGHT - 2
-    seconds, amperes = look.extent(switch_on, moments)
-    x_axis, y_axis = axis_ticks(seconds), axis_ticks(amperes)
+    scale = axes_of(switch_on, moments)
     box = (AXIS_LEFT, AXIS_BOTTOM, plot_width, plot_height)
+    top = AXIS_BOTTOM + plot_height
 
     def px(seconds: float) -> float:
-        return AXIS_LEFT + float(seconds) / x_axis[0][-1] * plot_width
+        return AXIS_LEFT + scale.x(seconds) * plot_width
 
     def py(amperes: float) -> float:
-        return AXIS_BOTTOM + float(amperes) / y_axis[0][-1] * plot_height
+        return AXIS_BOTTOM + scale.y(amperes) * plot_height
 
     drawing = Drawing(width, height)
-    draw_grid(drawing, box, x_axis, y_axis)
+    time_ticks = scale.time_ticks(
+        plot_width,
+        lambda words: stringWidth(words, FONT, LABEL_SIZE),
+        (4, LEGEND_GAP - 2),
+        TICK_GAP,
+    )
+    draw_ticks(drawing, box, time_ticks, scale.current_ticks)
     peaks = [m for m in moments if m.get("peak_current") is not None]
-    if len(peaks) > 1:
-        drawing.add(
-            PolyLine(
-                [c for m in peaks for c in (px(m["time"]), py(m["peak_current"]))],
-                strokeColor=PEAK_LINE,
-                strokeWidth=0.6,
-                strokeDashArray=[1, 1.5],
+    for run in clipped_runs([(scale.x(m["time"]), scale.y(m["peak_current"])) for m in peaks]):
+        if len(run) > 1:
+            drawing.add(
+                PolyLine(
+                    [
+                        c
+                        for u, v in run
+                        for c in (AXIS_LEFT + u * plot_width, AXIS_BOTTOM + v * plot_height)
+                    ],
+                    strokeColor=PEAK_LINE,
+                    strokeWidth=0.6,
+                    strokeDashArray=[1, 1.5],
+                )
             )
-        )
-    labels = []  # drawn last, each on a white ground, so that no line runs through them
+    room = LabelRoom(
+        inside=(AXIS_LEFT + 1, AXIS_BOTTOM + 1, AXIS_LEFT + plot_width - 1, top - 1),
+        clearance=LINE_CLEARANCE,
+    )
     steady = switch_on.get("steady_current")
     if steady is not None:
-        y = py(steady)
-        _dashed(drawing, (AXIS_LEFT, y, AXIS_LEFT + plot_width, y, 0.6, [4, 2]))
-        labels.append(
-            _label(AXIS_LEFT + plot_width - 3, y - 8, f"steady {steady:.3f} A RMS", "end")
-        )
-    stretches, unnamed = _glow_line(drawing, moments, px, py, box)
+        room.lines.append((AXIS_LEFT, py(steady), AXIS_LEFT + plot_width, py(steady)))
+        _dashed(drawing, (*room.lines[-1], 0.6, [4, 2]))
     settle = switch_on.get("settle_time")
     if settle is not None:
-        # Under the inrush label, on the side of the line with room.
-        x = px(settle)
-        words = f"settled at {look.seconds(settle)}"
-        labels.append(
-            _label(x - 3, AXIS_BOTTOM + plot_height - 19, words, "end")
-            if x > AXIS_LEFT + 0.7 * plot_width
-            else _label(x + 3, AXIS_BOTTOM + plot_height - 19, words)
-        )
-        _dashed(drawing, (x, AXIS_BOTTOM, x, AXIS_BOTTOM + plot_height, 0.9, [3, 2]))
+        room.lines.append((px(settle), AXIS_BOTTOM, px(settle), top))
+        _dashed(drawing, (*room.lines[-1], 0.9, [3, 2]))
+    stretches, unnamed = _glow_line(drawing, moments, (px, py), box, room)
+    labels = []  # drawn last, each on a white ground, so that no line runs through them
     inrush = look.inrush_moment(moments)
     if inrush is not None and switch_on.get("inrush_peak_current") is not None:
-        x, y = px(inrush["time"]), py(switch_on["inrush_peak_current"])
-        drawing.add(Circle(x, y, 2.6, fillColor=INK, strokeColor=None))
-        label_y = min(y - 2.5, AXIS_BOTTOM + plot_height - 9)
-        labels.append(_label(x + 6, label_y, look.inrush_words(switch_on, inrush)))
+        at = (px(inrush["time"]), py(switch_on["inrush_peak_current"]))
+        labels.append(_inrush(drawing, look.inrush_words(switch_on, inrush), at, room))
+    if settle is not None:
+        labels.append(_settle_label(f"settled at {look.seconds(settle)}", px(settle), room))
+    if steady is not None:
+        labels.append(_steady_label(f"steady {steady:.3f} A RMS", py(steady), room))
     for label in labels:
         drawing.add(_on_white(label))
     draw_frame(drawing, box)
-    draw_axis_labels(drawing, box, ("Time since switch-on [s]", "Lamp current [A]"))
-    drawing.add(_key(switch_on, moments, AXIS_LEFT + plot_width + LEGEND_GAP, height))
+    draw_axis_labels(drawing, box, (look.TIME_AXIS_WORDS, look.CURRENT_AXIS_WORDS))
+    marks = (
+        peaks_clipped(switch_on, moments, scale),
+        inrush is not None and scale.y(switch_on.get("inrush_peak_current") or 0.0) > 1.0,
+    )
+    drawing.add(_key(switch_on, moments, marks, (AXIS_LEFT + plot_width + LEGEND_GAP, height)))
     return drawing, stretches, unnamed
+
+
+def _rows(room: LabelRoom) -> list[float]:
+    """Baselines [pt] a label may take inside the frame, from the top down."""
+    bottom, top = room.inside[1], room.inside[3]
+    return [top - LABEL_SIZE - 1 - ROW * i for i in range(int((top - bottom - LABEL_SIZE) // ROW))]
+
+
+def _placed(room: LabelRoom, places: list[tuple[float, float, str]], words: str) -> String:
+    """A label at the first free one of `places` (x, baseline y, anchor) [pt]."""
+    labels = [_label(x, y, words, anchor) for x, y, anchor in places]
+    return room.place([(_ground(label), label) for label in labels])
+
+
+def _inrush(drawing: Drawing, words: str, at: tuple[float, float], room: LabelRoom) -> String:
+    """The inrush peak's mark (a dot, or a triangle under the frame's top where the peak is
+    above it) and its label, which states the peak's value."""
+    x, y = at
+    top = room.inside[3] + 1
+    rows = _rows(room)
+    if y <= top:
+        drawing.add(Circle(x, y, 2.6, fillColor=INK, strokeColor=None))
+        room.boxes.append((x - 3, y - 3, x + 3, y + 3))
+        rows = [y - 2.5, *rows]
+    else:
+        drawing.add(_clipped_mark(x, top))
+        room.boxes.append((x - 3.5, top - 6, x + 3.5, top))
+    places = [(x + 6, row, "start") for row in rows] + [(x - 6, row, "end") for row in rows]
+    return _placed(room, places, words)
+
+
+def _clipped_mark(x: float, top: float) -> Polygon:
+    """A triangle pointing up with its tip on the frame's top: a peak above the frame."""
+    return Polygon([x, top, x - 3, top - 5.5, x + 3, top - 5.5], fillColor=INK, strokeColor=None)
+
+
+def _settle_label(words: str, x: float, room: LabelRoom) -> String:
+    """Beside the settling line, on the side with room, as high as is free."""
+    sides = [(x + 4, "start"), (x - 4, "end")]
+    if x > room.inside[0] + 0.7 * (room.inside[2] - room.inside[0]):
+        sides.reverse()
+    return _placed(room, [(sx, row, anchor) for row in _rows(room) for sx, anchor in sides], words)
+
+
+def _steady_label(words: str, y: float, room: LabelRoom) -> String:
+    """Along the steady line, under or over it, from its right end."""
+    left, right = room.inside[0] + 2, room.inside[2] - 2
+    along = [(right, "end"), ((left + right) / 2, "middle"), (left, "start")]
+    rows = (y - LABEL_SIZE - 3.5, y + 4.5)
+    return _placed(room, [(x, row, anchor) for x, anchor in along for row in rows], words)
 
 
 def _dashed(drawing: Drawing, line: tuple) -> None:
@@ -124,25 +205,30 @@ def _dashed(drawing: Drawing, line: tuple) -> None:
     drawing.add(Line(*ends, strokeColor=STEADY_LINE, strokeWidth=width, strokeDashArray=dashes))
 
 
-def _on_white(label: String) -> Group:
-    """A label over a white box of its size."""
+def _ground(label: String) -> tuple[float, float, float, float]:
+    """The box [pt] a label's white ground covers."""
     width = stringWidth(label.text, label.fontName, label.fontSize)
     left = {"start": label.x, "middle": label.x - width / 2, "end": label.x - width}[
         label.textAnchor
     ]
-    ground = Rect(
-        left - 1,
-        label.y - 2,
-        width + 2,
-        label.fontSize + 2,
-        fillColor=colors.white,
-        strokeColor=None,
-    )
-    return Group(ground, label)
+    return (left - 1, label.y - 2, left + width + 1, label.y + label.fontSize)
 
 
-def _glow_line(drawing: Drawing, moments: list[dict], px, py, box: tuple) -> tuple[int, int]:
-    """Each stretch over a dark edge in its glow's colour, named above the plot where it fits."""
+def _on_white(label: String) -> Group:
+    """A label over a white box of its size."""
+    x0, y0, x1, y1 = _ground(label)
+    return Group(Rect(x0, y0, x1 - x0, y1 - y0, fillColor=colors.white, strokeColor=None), label)
+
+
+def _glow_line(
+    drawing: Drawing, moments: list[dict], scale: tuple, box: tuple, room: LabelRoom
+) -> tuple[int, int]:
+    """Each stretch over a dark edge in its glow's colour, named above the plot where it fits.
+
+    `scale` is the (px, py) pair mapping seconds and amperes to the drawing; the line is added
+    to `room` as one for labels to keep clear of where they can.
+    """
+    px, py = scale
     left, bottom, width, height = box
     stretches = look.glow_stretches(moments)
     starts = [px(stretch[0]["time"]) for _, stretch in stretches]
@@ -150,9 +236,11 @@ def _glow_line(drawing: Drawing, moments: list[dict], px, py, box: tuple) -> tup
         starts, [glow for glow, _ in stretches], NAME_ROWS, NAME_CHARACTER, left + width
     )
     for (glow, stretch), x, row in zip(stretches, starts, rows):
-        points = [c for m in stretch for c in (px(m["time"]), py(m["current"]))]
+        points = [(px(m["time"]), py(m["current"])) for m in stretch]
+        room.soft.extend(polyline_segments(points))
+        flat = [c for point in points for c in point]
         for colour, stroke in ((GLOW_EDGE, 2.8), (colors.HexColor(look.glow_colour(glow)), 1.6)):
-            drawing.add(PolyLine(points, strokeColor=colour, strokeWidth=stroke, strokeLineJoin=1))
+            drawing.add(PolyLine(flat, strokeColor=colour, strokeWidth=stroke, strokeLineJoin=1))
         if row is None:
             continue
         top = bottom + height + (NAME_ROWS - row) * NAME_ROW_HEIGHT
@@ -171,14 +259,30 @@ def _glow_line(drawing: Drawing, moments: list[dict], px, py, box: tuple) -> tup
     return len(stretches), rows.count(None)
 
 
-def _key(switch_on: dict, moments: list[dict], left: float, top: float) -> Group:
-    """The glow classes drawn, then the lines and the mark the plot holds."""
+def _key(switch_on: dict, moments: list[dict], marks: tuple[bool, bool], corner: tuple) -> Group:
+    """The glow classes drawn, then the lines and the mark the plot holds, from the top-left
+    `corner` (x, y) [pt] down; rows close up where there are many.
+
+    `marks` says whether peaks are clipped at the frame's top, and whether the inrush peak
+    is among them (its mark is then a triangle on the frame's top).
+    """
+    left, top = corner
+    clipped, inrush_above = marks
+    lines = [("peak current, each half cycle", PEAK_LINE, [1, 1.5], False)]
+    if switch_on.get("steady_current") is not None:
+        lines.append(("steady current", STEADY_LINE, [4, 2], False))
+    if switch_on.get("settle_time") is not None:
+        lines.append(("within 10 % of steady from", STEADY_LINE, [3, 2], True))
+    glows = look.glows_seen(moments)
+    inrush = switch_on.get("inrush_peak_current") is not None
+    count = len(glows) + len(lines) + int(clipped) + int(inrush)
+    step = min(LEGEND_ROW, (top - 8 - KEY_FOOT) / max(count, 1))
     group = Group()
     group.add(String(left, top - 8, "Key", fontName=FONT_BOLD, fontSize=LABEL_SIZE, fillColor=INK))
     row = top - 8
     text_left = left + 20
-    for glow in look.glows_seen(moments):
-        row -= LEGEND_ROW
+    for glow in glows:
+        row -= step
         group.add(
             Rect(
                 left,
@@ -191,13 +295,8 @@ def _key(switch_on: dict, moments: list[dict], left: float, top: float) -> Group
             )
         )
         group.add(_label(text_left, row, f"lamp glow {glow}"))
-    lines = [("peak current, each half cycle", PEAK_LINE, [1, 1.5], False)]
-    if switch_on.get("steady_current") is not None:
-        lines.append(("steady current", STEADY_LINE, [4, 2], False))
-    if switch_on.get("settle_time") is not None:
-        lines.append(("within 10 % of steady from", STEADY_LINE, [3, 2], True))
     for words, colour, dashes, vertical in lines:
-        row -= LEGEND_ROW
+        row -= step
         ends = (
             (left + 7, row - 2, left + 7, row + 7)
             if vertical
@@ -205,8 +304,15 @@ def _key(switch_on: dict, moments: list[dict], left: float, top: float) -> Group
         )
         group.add(Line(*ends, strokeColor=colour, strokeWidth=0.8, strokeDashArray=dashes))
         group.add(_label(text_left, row, words))
-    if switch_on.get("inrush_peak_current") is not None:
-        row -= LEGEND_ROW
-        group.add(Circle(left + 7, row + 3, 2.6, fillColor=INK, strokeColor=None))
-        group.add(_label(text_left, row, "inrush peak (instantaneous)"))
+    if clipped:
+        row -= step
+        group.add(_label(text_left, row, look.CLIPPED_KEY))
+    if inrush:
+        row -= step
+        if inrush_above:
+            group.add(_clipped_mark(left + 7, row + 6.5))
+            group.add(_label(text_left, row, "inrush peak, above the frame"))
+        else:
+            group.add(Circle(left + 7, row + 3, 2.6, fillColor=INK, strokeColor=None))
+            group.add(_label(text_left, row, "inrush peak (instantaneous)"))
     return group

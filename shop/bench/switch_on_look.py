@@ -27,6 +27,23 @@ LINES_WORDS = (
     "Line: the lamp's RMS current in each half cycle, coloured by its glow; dotted: the peak "
     "current in each half cycle; dashed: the steady current."
 )
+CLIPPED_WORDS = (
+    "The current axis fits the RMS current: peaks above the frame are clipped (the inrush "
+    "peak's value is in its label)."
+)
+CLIPPED_KEY = "peaks above the frame are clipped"
+TIME_AXIS_WORDS = "Time since switch-on [s], log scale"
+CURRENT_AXIS_WORDS = "Lamp current [A]"
+
+
+def lines_words(clipped: bool) -> str:
+    """What the plot's lines mean, and that peaks are clipped where any is."""
+    return f"{LINES_WORDS} {CLIPPED_WORDS}" if clipped else LINES_WORDS
+
+
+def volts(value: float) -> str:
+    """Source volts to three significant figures: "121 V", "99.5 V"."""
+    return f"{float(f'{float(value):.3g}'):g} V"
 
 
 def glow_colour(glow: str) -> str:
@@ -41,19 +58,6 @@ def moments_of(switch_on: dict) -> list[dict]:
         for moment in switch_on.get("glow_over_time", [])
         if moment.get("time") is not None and moment.get("current") is not None
     ]
-
-
-def extent(switch_on: dict, moments: list[dict]) -> tuple[float, float]:
-    """The largest time [s] and current [A] a plot of the block must hold (never zero)."""
-    followed = switch_on.get("followed_for") or max([m["time"] for m in moments] + [0.0])
-    currents = [
-        value
-        for value in [m["current"] for m in moments]
-        + [m.get("peak_current") for m in moments]
-        + [switch_on.get("inrush_peak_current"), switch_on.get("steady_current")]
-        if value is not None
-    ]
-    return max(followed, 1e-3), max(currents + [1e-3])
 
 
 def glows_seen(moments: list[dict]) -> list[str]:

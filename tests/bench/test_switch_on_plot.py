@@ -11,10 +11,32 @@ import pytest
 
 from shop.bench import services
 from shop.bench import switch_on as switch_on_module
-from shop.bench.switch_on import MAX_POINTS, behaviour_sentence, switch_on_block, thinned_indices
-from shop.bench.switch_on_look import GLOW_COLOURS, glow_colour, name_rows, settling_sentence
+from shop.bench.declared_load import physics_load, validated_document
+from shop.bench.plot_labels import LabelRoom, segment_meets
+from shop.bench.plot_svg import render_svg
+from shop.bench.svg_parts import text_width
+from shop.bench.switch_on import (
+    HEATERS_WARM,
+    LAMP_HEATS,
+    MAX_POINTS,
+    RESERVOIR_CHARGES,
+    behaviour_sentence,
+    computed_block,
+    settling_cause,
+    switch_on_block,
+    thinned_indices,
+)
+from shop.bench.switch_on_axes import SwitchOnAxes, clipped_runs, linear_ticks
+from shop.bench.switch_on_look import (
+    GLOW_COLOURS,
+    glow_colour,
+    name_rows,
+    settling_sentence,
+    volts,
+)
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.lamp import Lamp
+from shop.physics.transient import follow_time
 
 SVG = "{http://www.w3.org/2000/svg}"
 # A valve radio of 1954 as its nameplate models it: series heaters, a valve rectifier and
@@ -219,8 +241,9 @@ def test_a_behaviour_the_code_does_not_know_is_said_in_plain_words():
 
 
 def test_the_behaviour_words_of_the_known_codes():
-    assert behaviour_sentence("flash_then_dims", ["dark", "bright"], "faint").startswith(
-        "Flash at switch-on, then dims"
+    assert behaviour_sentence("flash_then_dims", ["dark", "bright"], "faint") == (
+        "Flash at switch-on, then dims: the lamp glows up to bright and falls back towards "
+        "faint as the unit settles."
     )
     assert behaviour_sentence("steady", ["dark", "bright"], "bright").startswith(
         "Stays bright: a fault"
@@ -339,16 +362,21 @@ def test_the_plot_of_a_switch_mode_unit_draws_its_switch_on_from_the_physics(
 # The prediction's answer -----------------------------------------------------------------
 
 
-def test_the_prediction_gives_the_lamp_current_beside_the_glow(client_for, db):
+def predicted_radio_switch_on(client_for) -> dict:
+    """The prediction's switch-on of the valve radio through a 60 W lamp on a 120 V rig."""
     body = {
         "lamp": {"technology": "tungsten", "rated_voltage": 120, "rated_power": 60},
         "rig": {"mains_voltage": 120, "mains_frequency": 60, "internal_resistance": 2.0},
         "declared_load": VALVE_RADIO,
-        "points": 5,
+        "points": 3,
     }
     response = client_for("technician").post("/api/predict/", body, format="json")
     assert response.status_code == 200, response.content
-    switch_on = response.json()["switch_on"]
+    return response.json()["switch_on"]
+
+
+def test_the_prediction_gives_the_lamp_current_beside_the_glow(client_for, db):
+    switch_on = predicted_radio_switch_on(client_for)
     moments = switch_on["glow_over_time"]
     assert 0 < len(moments) <= MAX_POINTS
     assert all(m["peak_current"] >= m["current"] > 0 for m in moments)
@@ -356,3 +384,303 @@ def test_the_prediction_gives_the_lamp_current_beside_the_glow(client_for, db):
     assert switch_on["behaviour_words"]
     assert switch_on["steady_glow"] in GLOW_CLASSES
     assert switch_on["followed_for"] == moments[-1]["time"]
+
+
+# How long a switch-on is followed ----------------------------------------------------------
+
+
+def test_a_switch_on_is_followed_for_the_physics_follow_time_unless_a_duration_is_given(
+    monkeypatch,
+):
+    asked = []
+
+    def follow(*args, duration, **kwargs):
+        asked.append(duration)
+        return transient(400, "flash_then_dims")
+
+    switch_mode = SimpleNamespace(constant_power=True)
+    monkeypatch.setattr(switch_on_module, "switch_on", follow)
+    monkeypatch.setattr(switch_on_module, "physics_load", lambda document: switch_mode)
+    monkeypatch.setattr(switch_on_module, "physics_limiter", lambda *args: None)
+    inputs = dict(
+        limiter=[], declared_load={}, source_voltage=230.0, source_resistance=2.0, frequency=50.0
+    )
+    computed_block(**inputs)
+    computed_block(**inputs, duration=0.3)
+    assert asked == [follow_time(switch_mode), 0.3]
+    assert asked[0] == 2.0  # shop.physics.transient.SWITCH_MODE_FOLLOW
+
+
+def test_a_valve_radio_is_followed_until_its_heaters_have_warmed_and_it_has_settled(client_for, db):
+    switch_on = predicted_radio_switch_on(client_for)
+    followed = follow_time(physics_load(validated_document(VALVE_RADIO)))
+    assert followed == 40.0  # four warm-up times of its slowest heater (the physics' rule)
+    assert switch_on["followed_for"] == pytest.approx(followed, rel=0.02)
+    # Followed half a second, as before, it had not settled: now it has, well inside the time
+    # followed (heaters settle within 10 % in two to three time constants: common practice,
+    # no source).
+    assert switch_on["settle_time"] is not None
+    assert 1.0 < switch_on["settle_time"] < 0.8 * followed
+    assert settling_sentence(switch_on).startswith("Within 10 % of the steady current from")
+    if switch_on["behaviour"] == "flash_then_dims":
+        assert switch_on["behaviour_words"].endswith(f"{HEATERS_WARM}.")
+
+
+# Words by kind ---------------------------------------------------------------------------
+
+
+ADAPTER = {
+    "kind": "nameplate",
+    "basis": "nameplate",
+    "parameters": {
+        "voltage": 230,
+        "power": 90,
+        "category": "other",
+        "construction": "switch_mode",
+        "frequency": "50_60",
+        "year": 2014,
+    },
+}
+
+
+@pytest.mark.parametrize(
+    "document, cause",
+    [
+        (VALVE_RADIO, HEATERS_WARM),
+        (ADAPTER, RESERVOIR_CHARGES),
+        (SWITCH_MODE, RESERVOIR_CHARGES),
+        (RESISTANCE, LAMP_HEATS),
+        (
+            {"kind": "transformer", "basis": "estimate", "parameters": {"voltage": 120, "va": 50}},
+            "as the transformer's inrush dies away",
+        ),
+    ],
+)
+def test_what_brings_the_current_down_is_said_by_what_the_unit_holds(document, cause):
+    assert settling_cause(physics_load(validated_document(document))) == cause
+
+
+def test_a_switch_mode_flash_is_said_to_fall_back_as_its_reservoir_charges():
+    words = behaviour_sentence("flash_then_dims", ["faint", "dark"], "dark", RESERVOIR_CHARGES)
+    assert words == (
+        "Flash at switch-on, then dims: the lamp glows up to faint and falls back towards dark "
+        "as the unit's reservoir charges."
+    )
+    assert "warms" not in words
+
+
+# The panel's axes and labels, from a block like the demo adapter's ----------------------
+
+
+def adapter_block(source_voltage=232.256) -> dict:
+    """A switch-mode adapter's switch-on as the physics gave it for the demo shop: a
+    reservoir charging in the first half cycle (an inrush peak of amperes), then tens of
+    milliamperes once the converter runs."""
+    times = [0.01 * i for i in range(1, 20)] + [0.2 + 0.05 * i for i in range(1, 37)]
+    current = [0.394, 0.0449, 0.0186, 0.0098] + [0.004] * 16 + [0.0344] * 35
+    peaks = [3.4284, 0.1539, 0.0696, 0.0399] + [0.02] * 16 + [0.1] * 35
+    return {
+        "source_voltage": source_voltage,
+        "inrush_peak_current": 3.4284,
+        "steady_current": 0.0344,
+        "settle_time": 0.22,
+        "followed_for": 2.0,
+        "behaviour": "flash_then_dims",
+        "behaviour_words": "Flash at switch-on, then dims.",
+        "steady_glow": "dark",
+        "glow_over_time": [
+            {
+                "time": round(t, 4),
+                "glow": "faint" if i < 9 else "dark",
+                "current": c,
+                "peak_current": p,
+            }
+            for i, (t, c, p) in enumerate(zip(times, current, peaks, strict=True))
+        ],
+    }
+
+
+def panel_of(block: dict):
+    prediction = {
+        "source_voltage": [0.0, 230.0],
+        "load_voltage": [0.0, 220.0],
+        "load_voltage_low": [0.0, 210.0],
+        "load_voltage_high": [0.0, 225.0],
+        "fault_current_cap": {"current": 0.18, "source_voltage": 250.0, "glow": "bright"},
+        "model": {"summary": "a switch-mode input"},
+    }
+    svg = render_svg(prediction=prediction, readings=[], title="t", switch_on=block)
+    return ET.fromstring(svg).find(f".//{SVG}g[@class='switch-on']")
+
+
+def frame_of(panel) -> tuple[float, float, float, float]:
+    rect = panel.find(f"{SVG}g[@class='axes']/{SVG}rect")
+    left, top = float(rect.get("x")), float(rect.get("y"))
+    return left, top, left + float(rect.get("width")), top + float(rect.get("height"))
+
+
+def text_boxes(panel, classes) -> list[tuple[str, tuple]]:
+    """(class, box) of each text of these classes, by the plot's own width estimate."""
+    boxes = []
+    for text in panel.iter(f"{SVG}text"):
+        css = text.get("class")
+        if css not in classes:
+            continue
+        size = float(text.get("font-size") or 11)
+        width = text_width(text.text, size)
+        x, y = float(text.get("x")), float(text.get("y"))
+        left = {"start": x, "middle": x - width / 2, "end": x - width}[
+            text.get("text-anchor") or "start"
+        ]
+        boxes.append((css, (left, y - 0.8 * size, left + width, y + 0.25 * size)))
+    return boxes
+
+
+def meets(a, b) -> bool:
+    return a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]
+
+
+LABELS = ("inrush-label", "settle-label", "steady-label")
+TICKS = ("x-tick", "y-tick", "glow-name")
+
+
+def test_the_adapter_panel_scales_current_to_the_rms_and_clips_the_peaks_at_the_top():
+    block = adapter_block()
+    panel = panel_of(block)
+    left, top, right, bottom = frame_of(panel)
+    y_ticks = [float(t) for t in texts(panel, "y-tick")]
+    # Above the largest RMS current with headroom, far below the 3.43 A inrush peak: the
+    # steady 34 mA stands clear of the axis instead of lying on it.
+    assert max(y_ticks) == 0.5
+    assert 0.394 * 1.15 <= max(y_ticks) < block["inrush_peak_current"]
+    [steady] = panel.findall(f"{SVG}line[@class='steady-current']")
+    assert bottom - float(steady.get("y1")) >= 0.06 * (bottom - top)
+    peak_points = [
+        tuple(float(v) for v in point.split(","))
+        for line in panel.findall(f"{SVG}polyline[@class='peak-current']")
+        for point in line.get("points").split()
+    ]
+    assert peak_points and all(top - 0.1 <= y <= bottom + 0.1 for _, y in peak_points)
+    assert min(y for _, y in peak_points) == pytest.approx(top, abs=0.1)  # cut at the top
+    notes = " ".join(texts(panel, "switch-on-note"))
+    assert "peaks above the frame are clipped" in notes
+    assert texts(panel, "inrush-label") == ["inrush peak 3.43 A (instantaneous) at 0.010 s"]
+    assert panel.find(f".//{SVG}polygon[@class='inrush-peak clipped']") is not None
+
+
+def test_the_time_axis_is_logarithmic_with_decade_ticks_and_twos_and_fives_where_they_fit():
+    panel = panel_of(radio_block())
+    assert texts(panel, "x-label") == ["Time since switch-on [s], log scale"]
+    ticks = {
+        t.text: float(t.get("x")) for t in panel.iter(f"{SVG}text") if t.get("class") == "x-tick"
+    }
+    # From the first half cycle's end (1/120 s) to the 40 s followed.
+    assert {"0.01 s", "0.1 s", "1 s", "10 s"} <= set(ticks)
+    assert "0.005 s" not in ticks and "50 s" not in ticks
+    assert set(ticks) <= {f"{m * 10.0**k:g} s" for m in (1, 2, 5) for k in range(-3, 3)}
+    # Equal steps for equal ratios: a decade is as wide as the next, and 2 s sits log10(2) of
+    # a decade after 1 s.
+    decade = ticks["1 s"] - ticks["0.1 s"]
+    assert ticks["0.1 s"] - ticks["0.01 s"] == pytest.approx(decade, abs=0.15)
+    if "2 s" in ticks:
+        assert ticks["2 s"] - ticks["1 s"] == pytest.approx(math.log10(2) * decade, abs=0.15)
+    left, _, right, _ = frame_of(panel)
+    assert all(left - 10 < x < right + 20 for x in ticks.values())
+
+
+def radio_block() -> dict:
+    """A valve radio's switch-on as the physics gave it for the demo shop, 40 s followed: a
+    flash of the cold lamp and heaters, then the heaters' slow warm-up."""
+    rows = [
+        (0.0083, "dark", 1.0324, 1.5267),
+        (0.0167, "dark", 0.9233, 1.3604),
+        (0.025, "faint", 0.8244, 1.2455),
+        (0.0417, "faint", 0.6611, 0.9893),
+        (0.05, "dull", 0.6026, 0.8819),
+        (0.0667, "dull", 0.522, 0.7555),
+        (0.0833, "medium", 0.4733, 0.6787),
+        (0.1333, "medium", 0.4181, 0.5915),
+        (0.3, "bright", 0.4067, 0.5758),
+        (0.9417, "bright", 0.4077, 0.5784),
+        (3.6, "bright", 0.4046, 0.5826),
+        (7.2, "bright", 0.3976, 0.5823),
+        (11.0, "medium", 0.3899, 0.5781),
+        (18.8, "medium", 0.3734, 0.5608),
+        (26.4, "medium", 0.3608, 0.5478),
+        (40.0, "medium", 0.3479, 0.5345),
+    ]
+    return {
+        "source_voltage": 121.33156645849459,
+        "inrush_peak_current": 1.5267,
+        "steady_current": 0.3281,
+        "settle_time": 26.2,
+        "followed_for": 40.0,
+        "behaviour": "flash_then_dims",
+        "behaviour_words": "Flash at switch-on, then dims.",
+        "steady_glow": "medium",
+        "glow_over_time": [
+            {"time": t, "glow": g, "current": c, "peak_current": p} for t, g, c, p in rows
+        ],
+    }
+
+
+@pytest.mark.parametrize("made", [adapter_block, radio_block])
+def test_no_label_covers_another_a_tick_label_or_the_line_it_names(made):
+    block = made()
+    panel = panel_of(block)
+    left, top, right, bottom = frame_of(panel)
+    labels = text_boxes(panel, LABELS)
+    assert sorted(css for css, _ in labels) == sorted(LABELS)
+    others = text_boxes(panel, TICKS)
+    for index, (css, box) in enumerate(labels):
+        assert left <= box[0] and box[2] <= right and top <= box[1] and box[3] <= bottom, css
+        assert not any(meets(box, other) for _, other in labels[index + 1 :] + others), css
+    [settle] = panel.findall(f"{SVG}line[@class='settle-time']")
+    [steady] = panel.findall(f"{SVG}line[@class='steady-current']")
+    settle_x, steady_y = float(settle.get("x1")), float(steady.get("y1"))
+    for _, box in labels:
+        assert not box[0] < settle_x < box[2]
+        assert not box[1] < steady_y < box[3]
+
+
+def test_the_panel_title_gives_the_source_volts_to_three_figures():
+    assert volts(121.33156645849459) == "121 V"
+    assert volts(91.33) == "91.3 V"
+    assert volts(230.0) == "230 V"
+    heading = next(panel_of(adapter_block(121.332)).iter(f"{SVG}text")).text
+    assert heading == "Switch-on at 121 V: a healthy unit's lamp current over time"
+
+
+# The pieces under the panel --------------------------------------------------------------
+
+
+def test_a_line_is_cut_where_it_leaves_the_top_and_resumes_where_it_comes_back():
+    runs = clipped_runs([(0.0, 0.5), (0.5, 1.5), (1.0, 0.5), (1.5, 1.5), (2.0, 3.0)])
+    assert runs == [[(0.0, 0.5), (0.25, 1.0)], [(0.75, 1.0), (1.0, 0.5), (1.25, 1.0)]]
+    assert clipped_runs([(0.0, 2.0), (1.0, 3.0)]) == []
+
+
+def test_narrow_room_labels_the_decades_only():
+    axes = SwitchOnAxes(1 / 120 / 1.25, 40.0, linear_ticks(1.0))
+    ticks = axes.time_ticks(250, lambda words: 6.6 * len(words), (30, 20), 6)
+    assert [t.label for t in ticks if t.label] == ["0.01 s", "0.1 s", "1 s", "10 s"]
+    # Every 1, 2 and 5 still draws its grid line, at its logarithmic place.
+    assert [t.value for t in ticks][:4] == [0.01, 0.02, 0.05, 0.1]
+    assert ticks[1].at - ticks[0].at == pytest.approx(math.log10(2) / math.log10(40 * 150))
+
+
+def test_a_label_goes_to_the_first_place_clear_of_labels_and_lines_then_of_curves():
+    room = LabelRoom(inside=(0, 0, 100, 100), lines=[(50, 0, 50, 100)], soft=[(0, 20, 100, 20)])
+    room.boxes.append((0, 0, 30, 10))
+    candidates = [
+        ((10, 5, 20, 15), "over a label"),
+        ((45, 30, 55, 40), "across the line"),
+        ((60, 15, 70, 25), "across the curve"),
+        ((95, 30, 105, 40), "outside"),
+        ((60, 30, 70, 40), "free"),
+    ]
+    assert room.place(candidates) == "free"
+    assert room.place(candidates[:3]) == "across the curve"  # the curve only if it must
+    assert segment_meets((0, 0, 10, 10), (4, 4, 6, 6))
+    assert not segment_meets((0, 0, 10, 0), (4, 1, 6, 3))
+    assert not segment_meets((0, 10, 10, 0), (0, 0, 4, 4))  # passes by the box's corner

@@ -6,13 +6,17 @@ import io
 import json
 
 import pypdf
+import pytest
+from reportlab.graphics.shapes import Group, Polygon, PolyLine, String
 
 from reports import services
 from reports.pdf import render_certificate
 from reports.pdf.styles import MARGIN
+from reports.pdf.switch_on_plot import switch_on_plot
 from reports.selectors import certificate_intact
 from shop.bench.switch_on import MAX_POINTS
 from shop.physics.glow import GLOW_CLASSES
+from tests.bench.test_switch_on_plot import adapter_block
 from tests.reports.test_certificate_pdf import (
     POSITION_TOLERANCE,
     certificate_snapshot,
@@ -123,3 +127,59 @@ def test_no_text_of_the_switch_on_starts_outside_the_margins():
     page.extract_text(visitor_text=record)
     assert any("lamp glow" in text for _, text in starts)  # the drawing's words are read too
     assert [t for x, t in starts if x > limit or x < MARGIN - POSITION_TOLERANCE] == []
+
+
+def strings_of(node) -> list[String]:
+    """Every String in a drawing, however deep in its groups."""
+    found = []
+    for item in getattr(node, "contents", []):
+        if isinstance(item, String):
+            found.append(item)
+        elif isinstance(item, Group):
+            found.extend(strings_of(item))
+    return found
+
+
+def test_the_certificate_draws_time_on_a_log_axis_with_decade_ticks():
+    drawing, _, _ = switch_on_plot(long_block("cycles", "Cycles."), 500, 140)
+    words = [string.text for string in strings_of(drawing)]
+    assert "Time since switch-on [s], log scale" in words
+    # 0.15 s to the 30 s followed: the decades inside, and 2s and 5s where they fit.
+    assert {"1 s", "10 s"} <= set(words)
+    seconds = [w for w in words if w.endswith(" s") and w[0].isdigit()]
+    assert set(seconds) <= {f"{m * 10.0**k:g} s" for m in (1, 2, 5) for k in range(-3, 3)}
+    at = {s.text: s.x for s in strings_of(drawing) if s.text in ("1 s", "2 s", "10 s")}
+    if "2 s" in at:
+        decade = at["10 s"] - at["1 s"]
+        assert at["2 s"] - at["1 s"] == pytest.approx(0.30103 * decade, rel=1e-3)
+
+
+def test_the_adapters_current_axis_fits_its_rms_current_and_its_peaks_are_clipped():
+    drawing, _, _ = switch_on_plot(adapter_block(), 500, 140)
+    strings = strings_of(drawing)
+    words = [s.text for s in strings]
+    currents = [float(s.text) for s in strings if s.textAnchor == "end" and s.text[0].isdigit()]
+    assert max(currents) == 0.5  # above the largest RMS current, 0.394 A, not the 3.43 A peak
+    assert "peaks above the frame are clipped" in words
+    assert "inrush peak 3.43 A (instantaneous) at 0.010 s" in words
+    assert "inrush peak, above the frame" in words
+    # The dotted peak line never leaves the frame: its top is where the 0.5 A tick is.
+    top = next(s.y for s in strings if s.text == "0.5" and s.textAnchor == "end") + 2.5
+    peak_ys = [
+        y
+        for item in drawing.contents
+        if isinstance(item, PolyLine) and item.strokeDashArray == [1, 1.5]
+        for y in item.points[1::2]
+    ]
+    assert peak_ys and max(peak_ys) == pytest.approx(top, abs=0.01)
+    assert any(isinstance(item, Polygon) for item in drawing.contents)  # the inrush's triangle
+
+
+def test_an_old_snapshots_switch_on_block_renders_on_the_new_axes():
+    # Blocks issued before the log axis were followed for 0.5 s and hold the same keys.
+    block = adapter_block()
+    block["followed_for"] = 0.5
+    block["glow_over_time"] = [m for m in block["glow_over_time"] if m["time"] <= 0.5]
+    text = " ".join(pages_of(render_certificate(with_switch_on(block))))
+    assert "log scale" in text
+    assert "0.01 s" in text and "0.1 s" in text
