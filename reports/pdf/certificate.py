@@ -360,7 +360,7 @@ def _switch_on(test: dict, width: float) -> list:
     drawing, stretches, unnamed = switch_on_plot(switch_on, width, SWITCH_ON_HEIGHT)
     explanation = (
         "Modelled, not measured: the lamp's current when a healthy unit of the declared load "
-        f"is switched on at {fmt.volts(switch_on['source_voltage'])} from the source, at the "
+        f"is switched on at {look.volts(switch_on['source_voltage'])} from the source, at the "
         "crest of the wave, through this lamp. "
         f"{look.LINES_WORDS} {look.settling_sentence(switch_on)} "
         f"{look.crowded_sentence(stretches, unnamed)}"

@@ -29,7 +29,10 @@ STEADY = "steady"
 # How long a switch-on is worth following (follow_time): a lamp settles within a tenth of a
 # second, a capacitor input within a few mains cycles; a valve set's heaters and valve
 # rectifier take their time constants several times over (settling within 10 % takes two to
-# three heater time constants: shop/physics/judgement.py's SWITCH_ON_SECONDS notes); a
+# three heater time constants through a lamp at full draw, shop/physics/judgement.py's
+# SWITCH_ON_SECONDS notes, but six to eight where the heaters are most of the draw: the
+# nameplate guitar amplifier with its output valves pulled, 61-78 s at 230-180 V through a
+# 60 W lamp for a 10 s heater); a
 # switch-mode unit shows several restarts, if it restarts, in two seconds at its default
 # start delay.
 QUICK_FOLLOW = 0.5  # [s]
@@ -38,7 +41,7 @@ QUICK_FOLLOW = 0.5  # [s]
 # (the nameplate radio followed for 1 s: 0.68 s in detail, 0.76 s with the handover, measured
 # on the dev machine).
 SLOW_PHASE_AFTER = 2.0  # [s]
-SLOW_SPANS = 4.0
+SLOW_SPANS = 8.0
 SWITCH_MODE_FOLLOW = 2.0  # [s]
 LONGEST_FOLLOW = 180.0  # [s]
 

@@ -414,7 +414,7 @@ def test_a_switch_on_is_followed_for_the_physics_follow_time_unless_a_duration_i
 def test_a_valve_radio_is_followed_until_its_heaters_have_warmed_and_it_has_settled(client_for, db):
     switch_on = predicted_radio_switch_on(client_for)
     followed = follow_time(physics_load(validated_document(VALVE_RADIO)))
-    assert followed == 40.0  # four warm-up times of its slowest heater (the physics' rule)
+    assert followed == 80.0  # eight warm-up times of its slowest heater (the physics' rule)
     assert switch_on["followed_for"] == pytest.approx(followed, rel=0.02)
     # Followed half a second, as before, it had not settled: now it has, well inside the time
     # followed (heaters settle within 10 % in two to three time constants: common practice,

@@ -201,6 +201,20 @@ def test_follow_time_covers_a_valve_set_warming_and_a_switch_mode_unit_restartin
     assert follow_time(ResistiveLoad(100.0)) == QUICK_FOLLOW
     assert follow_time(ConstantPowerLoad(5.0)) == SWITCH_MODE_FOLLOW
     # Followed that long through a 100 W lamp, the radio settles inside it (tests/physics/
-    # test_warm_up.py measures about 19 s at 120 V).
+    # test_warm_up.py measures about 19 s at 120 V), and so does a guitar amplifier with its
+    # output valves pulled, whose heaters are most of its draw.
     result = switch_on(LAMP_100, radio, 120.0, duration=follow_time(radio), remanence=False)
     assert float(result.settle_time) < follow_time(radio)
+    pulled = unit_load_from_nameplate(
+        rated_voltage=230.0,
+        rated_power=120.0,
+        category="instrument_amplifier",
+        construction="isolating_transformer",
+        year=1968,
+        rated_frequency=50.0,
+        valves_pulled=True,
+    )
+    result = switch_on(
+        Lamp(230.0, 60.0), pulled, [180.0, 230.0], frequency=50.0, duration=follow_time(pulled)
+    )
+    assert (result.settle_time < follow_time(pulled)).all()

@@ -46,7 +46,7 @@ def test_a_new_certificate_carries_the_thinned_switch_on_and_prints_its_sentence
     text = " ".join(pages_of(pdf))
     assert HEADING in text
     assert f"At switch-on: {normalised(switch_on['behaviour_words'])}" in text
-    assert "at 120.0 V from the source" in text
+    assert "at 120 V from the source" in text
     assert certificate_intact(certificate)
 
 
