@@ -18,8 +18,17 @@ class AuditEventSerializer(serializers.ModelSerializer):
 
     class Meta:
         model = AuditEvent
-        fields = ["id", "at", "actor", "action", "object_type", "object_id", "object_repr",
-                  "changes", "digest"]
+        fields = [
+            "id",
+            "at",
+            "actor",
+            "action",
+            "object_type",
+            "object_id",
+            "object_repr",
+            "changes",
+            "digest",
+        ]
         read_only_fields = fields
 
 
@@ -38,8 +47,7 @@ class AuditEventFilter(django_filters.FilterSet):
     list=extend_schema(responses={200: AuditEventSerializer(many=True), **ERROR_RESPONSES}),
     retrieve=extend_schema(responses={200: AuditEventSerializer, **ERROR_RESPONSES}),
 )
-class AuditEventViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin,
-                        viewsets.GenericViewSet):
+class AuditEventViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets.GenericViewSet):
     """The append-only audit trail of every write; leads only."""
 
     queryset = AuditEvent.objects.select_related("actor")
