@@ -6,6 +6,7 @@ import numpy as np
 
 from shop.physics.circuit import solve_bypassed, solve_series
 from shop.physics.glow import GLOW_CLASSES, glow_class
+from shop.physics.heater import HeaterLoad
 from shop.physics.transformer import magnetising_current
 from shop.physics.warm_up import DETAILED_SECONDS, lamp_filaments, slow_phase
 from shop.physics.waveform import Network
@@ -52,17 +53,27 @@ def follow_time(load):
     ``QUICK_FOLLOW`` for lamps, resistances, transformers and silicon rectifiers;
     ``SLOW_SPANS`` times the slowest heater's warm-up time or valve rectifier's warm-up
     (at most ``LONGEST_FOLLOW``) for a valve set; ``SWITCH_MODE_FOLLOW`` for a switch-mode
-    input, long enough to show it restarting.
+    input, long enough to show it restarting. A valve rectifier declared without heaters
+    is followed ``SLOW_PHASE_AFTER`` at most: only heaters go over to the cheap slow phase,
+    and following a warm-up of seconds cycle by cycle costs seconds.
     """
     if getattr(load, "constant_power", False):
         return SWITCH_MODE_FOLLOW
-    slowest = 0.0
-    for member in getattr(load, "members", (load,)):
-        if getattr(member, "members", None) is not None:
-            slowest = max(slowest, follow_time(member) / SLOW_SPANS)
-            continue
-        slowest = max(slowest, float(getattr(member, "warm_up_time", 0.0) or 0.0))
-    return float(np.clip(SLOW_SPANS * slowest, QUICK_FOLLOW, LONGEST_FOLLOW))
+    parts = list(_parts(load))
+    slowest = max(float(getattr(part, "warm_up_time", 0.0) or 0.0) for part in parts)
+    heated = any(isinstance(part, HeaterLoad) for part in parts)
+    longest = LONGEST_FOLLOW if heated else SLOW_PHASE_AFTER
+    return float(np.clip(SLOW_SPANS * slowest, QUICK_FOLLOW, max(longest, QUICK_FOLLOW)))
+
+
+def _parts(load):
+    """The models a unit is built of, composites opened."""
+    members = getattr(load, "members", None)
+    if members is None:
+        yield load
+        return
+    for member in members:
+        yield from _parts(member)
 
 
 @dataclass(frozen=True)

@@ -200,6 +200,13 @@ def test_follow_time_covers_a_valve_set_warming_and_a_switch_mode_unit_restartin
     assert follow_time(radio) == SLOW_SPANS * 10.0
     assert follow_time(ResistiveLoad(100.0)) == QUICK_FOLLOW
     assert follow_time(ConstantPowerLoad(5.0)) == SWITCH_MODE_FOLLOW
+    # A valve rectifier alone (no heaters for the slow phase) is not followed cycle by cycle
+    # through its 10 s warm-up.
+    lone = RectifierLoad(
+        120.0, 40e-6, topology="centre_tap", dc_resistance=5000.0, rectifier="valve"
+    )
+    assert lone.warm_up_time == 10.0
+    assert follow_time(lone) == transient.SLOW_PHASE_AFTER
     # Followed that long through a 100 W lamp, the radio settles inside it (tests/physics/
     # test_warm_up.py measures about 19 s at 120 V), and so does a guitar amplifier with its
     # output valves pulled, whose heaters are most of its draw.
