@@ -48,10 +48,14 @@ Reason codes (module constants; each reason carries a sentence with the numbers)
   volts follow the source whatever it draws.
 - ``load_cannot_run`` (inconclusive): at a reading's source voltage a healthy
   unit of the declared constant-power load has no operating point through the
-  lamp (it cycles or does not start), so the reading cannot be judged.
+  lamp (it cycles or does not start), so the reading cannot be judged; the
+  sentence adds what the unit's own switch-on there shows (restarting about every
+  so many seconds, the glow pulsing, or never starting:
+  :mod:`shop.physics.switch_mode_start`).
 - ``reading_not_settled`` (inconclusive): the reading was taken later than the
   switch-on the judgement follows (``SWITCH_ON_SECONDS``, three minutes), and a
   healthy unit is still settling then (heaters slower than any valve's).
+- ``all_in_band`` (pass).
 
 Readings that give the seconds since switch-on are judged against the switch-on transient
 (:func:`shop.physics.transient.switch_on` at the reading's source voltage, the heaters'
@@ -59,7 +63,6 @@ warm-up included) when a healthy unit has not settled by then, and against the s
 otherwise: a valve set read 5-60 s after switch-on is judged against its warm-up. Unit volts
 and current are predicted as the meters used would show them: a true-RMS meter the RMS, an
 average-responding one the rectified mean times the sine's form factor.
-- ``all_in_band`` (pass).
 """
 
 from dataclasses import dataclass
