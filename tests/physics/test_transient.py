@@ -101,15 +101,19 @@ def test_a_finer_step_does_not_move_the_settled_current():
     assert_allclose(coarse.inrush_peak, fine.inrush_peak, rtol=1e-12)  # the crest at t = 0
 
 
+# The demo shop's 1954 valve radio as its nameplate models it (fixtures/demo/intake.json).
+RADIO = unit_load_from_nameplate(
+    rated_voltage=120.0,
+    rated_power=65.0,
+    category="radio",
+    construction="isolating_transformer",
+    rated_frequency=60.0,
+    year=1954,
+)
+
+
 def test_a_resistive_unit_glows_steadily_but_a_valve_set_flashes_then_dims():
-    radio = unit_load_from_nameplate(
-        rated_voltage=120.0,
-        rated_power=65.0,
-        category="radio",
-        construction="isolating_transformer",
-        rated_frequency=60.0,
-        year=1954,
-    )
+    radio = RADIO
     resistive = switch_on(LAMP_100, ResistiveLoad.from_rating(120.0, 65.0), 120.0, duration=0.5)
     valve_set = switch_on(LAMP_100, radio, 120.0, source_resistance=2.0, duration=0.5)
     assert resistive.behaviour == STEADY
@@ -180,7 +184,6 @@ def test_a_constant_power_input_is_switched_on_through_its_own_model():
 
 
 def test_follow_time_covers_a_valve_set_warming_and_a_switch_mode_unit_restarting():
-    from shop.physics.nameplate import unit_load_from_nameplate
     from shop.physics.transient import (
         QUICK_FOLLOW,
         SLOW_SPANS,
@@ -188,14 +191,7 @@ def test_follow_time_covers_a_valve_set_warming_and_a_switch_mode_unit_restartin
         follow_time,
     )
 
-    radio = unit_load_from_nameplate(
-        rated_voltage=120.0,
-        rated_power=65.0,
-        category="radio",
-        construction="isolating_transformer",
-        year=1954,
-        rated_frequency=60.0,
-    )
+    radio = RADIO
     # Its heaters and valve rectifier both take 10 s (the nameplate's defaults).
     assert follow_time(radio) == SLOW_SPANS * 10.0
     assert follow_time(ResistiveLoad(100.0)) == QUICK_FOLLOW
