@@ -127,14 +127,9 @@ def lamp_switch_on(lamp, table_step=25.0):
     temperature starts at the lamp's ambient (``.ic``).
     """
     table = lamp.thermal_table()
-    last = table.temperature.size - 1
-    rows = np.unique(np.append(np.arange(0, last, int(table_step)), last))
 
     def pwl(column):
-        pairs = ", ".join(
-            f"{t:.6g},{value:.9g}" for t, value in zip(table.temperature[rows], column[rows])
-        )
-        return f"pwl(v(t), {pairs})"
+        return _pwl(table, column, "t", table_step)
 
     resistance = pwl(table.resistance)
     body = f"BL u unit I = v(u,unit) / {resistance}\nCT t 0 1\n"
@@ -143,3 +138,58 @@ def lamp_switch_on(lamp, table_step=25.0):
         f"{pwl(table.heat_capacity)}\n"
     )
     return body, f".ic v(t)={table.temperature[0]}"
+
+
+def heater_switch_on(heater, multiplier, node, temperature_node):
+    """``multiplier`` heaters from ``node`` to ground, each warming at ``temperature_node``.
+
+    ``C dT/dt = v^2 / R(T) - P_loss(T)`` with the element's resistance and heat loss from its
+    tungsten tables (as :func:`lamp_switch_on`) and the heater's lumped heat capacity.
+    """
+    table = heater.element.thermal_table()
+    resistance = _pwl(table, table.resistance, temperature_node)
+    body = f"BH{temperature_node} {node} 0 I = {multiplier} * v({node}) / {resistance}\n"
+    body += f"CT{temperature_node} {temperature_node} 0 1\n"
+    body += (
+        f"BT{temperature_node} 0 {temperature_node} I = (v({node})^2 / {resistance} - "
+        f"{_pwl(table, table.power_loss, temperature_node)}) / {heater.heat_capacity}\n"
+    )
+    return body, f"v({temperature_node})={table.temperature[0]}"
+
+
+def _pwl(table, column, temperature_node, table_step=25.0):
+    last = table.temperature.size - 1
+    rows = np.unique(np.append(np.arange(0, last, int(table_step)), last))
+    pairs = ", ".join(
+        f"{t:.6g},{value:.9g}" for t, value in zip(table.temperature[rows], column[rows])
+    )
+    return f"pwl(v({temperature_node}), {pairs})"
+
+
+def valve_set_switch_on(transformer, heater, rectifier, frequency, magnetising_current, node):
+    """A valve set switched on at ``node``: core, heaters warming, a valve rectifier warming.
+
+    The transformer's core as in :func:`valve_set`, its magnetising current starting at
+    ``magnetising_current`` [A] (the residual flux); the heaters as in
+    :func:`heater_switch_on`; the centre-tap rectifier's path (winding and valve) conducting
+    in proportion to ``min(time / warm_up_time, 1)``, the reservoir starting discharged.
+    Returns the netlist lines and the ``.ic`` entries.
+    """
+    scale = transformer.saturation_flux(frequency) / transformer.knee_current
+    slope = float(magnetising_flux_slope(np.inf, transformer.core))
+    knee = transformer.knee_current
+    inner = transformer.core_conductance + transformer.load_conductance
+    n = rectifier.turns_ratio
+    body, heater_ic = heater_switch_on(heater, 1.0, node, "th")
+    body += f"R1 {node} m {transformer.primary_resistance}\nRC m 0 {1 / inner}\n"
+    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + {2 / np.pi} / "
+    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
+    body += f"EA a 0 {node} 0 {n}\nEB b 0 {node} 0 {-n}\nVSA a a1 0\nVSB b b1 0\n"
+    body += f"FA {node} 0 VSA {n}\nFB {node} 0 VSB {-n}\n"
+    warm = "1" if rectifier.warm_up_time == 0 else f"min(time / {rectifier.warm_up_time}, 1)"
+    for name, start in (("1", "a1"), ("2", "b1")):
+        body += f"BW{name} {start} w{name} I = v({start}, w{name}) * {warm} / "
+        body += f"{rectifier.path_resistance}\n"
+        body += diode(name, f"w{name}", "out", rectifier.diode_drop, 1e-6)
+    body += f"C1 out 0 {rectifier.capacitance}\nRL out 0 {rectifier.dc_resistance}\n"
+    return body, f"{heater_ic} v(x)={magnetising_current} v(out)=0"
