@@ -1,9 +1,11 @@
 """The series circuit: source, rig windings, tungsten lamp and unit, solved for a whole sweep."""
 
+import copy
 from dataclasses import dataclass
 
 import numpy as np
 
+from shop.physics.capacitor_input import capacitor_input_solution
 from shop.physics.glow import GLOW_CLASSES
 from shop.physics.loads import Load
 from shop.physics.roots import bracketed_root
@@ -391,8 +393,36 @@ def _operating_point(lamp, load, target, source_resistance, frequency, bypassed)
     return lamp_voltage, current, open_, state
 
 
+def _capacitor_input(lamp, load, target, source_resistance, frequency, bypassed):
+    """A capacitor-input switch-mode unit's figures and states (shop.physics.capacitor_input)."""
+    # Where the same power cannot be drawn as a resistance would draw it, it cannot be drawn
+    # in peaks either: those columns skip the shooting (the stop voltage set aside, which
+    # the two inputs meet differently).
+    corrected = copy.copy(load)
+    corrected.stop_voltage = 0.0
+    state = _constant_power_solution(lamp, corrected, target, source_resistance, bypassed)[3]
+    figures, off, missing, shape = capacitor_input_solution(
+        lamp,
+        load,
+        target,
+        source_resistance,
+        frequency,
+        bypassed,
+        unreachable=state == NO_OPERATING_POINT,
+    )
+    figures["average_load_voltage"][off] = SINE_AVERAGE_PER_RMS * figures["load_voltage"][off]
+    state = np.full(off.size, STEADY, dtype=f"<U{max(map(len, OPERATING_STATES))}")
+    state[off] = OFF
+    state[missing] = NO_OPERATING_POINT
+    solution = {name: values.reshape(shape) for name, values in figures.items()}
+    solution["state"] = state.reshape(shape)
+    return solution
+
+
 def _solve(lamp, load, target, source_resistance, frequency, bypassed):
     """Every figure of the operating point as a dict of arrays, phasor or time domain."""
+    if getattr(load, "input_stage", None) == "capacitor":
+        return _capacitor_input(lamp, load, target, source_resistance, frequency, bypassed)
     if getattr(load, "waveform", False):
         figures = periodic_steady_state(
             None if bypassed else lamp, load, target, source_resistance, frequency

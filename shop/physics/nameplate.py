@@ -8,7 +8,13 @@ from shop.physics.composite import CompositeLoad
 from shop.physics.heater import HeaterLoad
 from shop.physics.loads import ResistiveLoad, check_scalar
 from shop.physics.rectifier import RectifierLoad
-from shop.physics.switch_mode import ConstantPowerLoad
+from shop.physics.switch_mode import (
+    CAPACITOR_INPUT,
+    CORRECTED_ABOVE,
+    POWER_FACTOR_CORRECTED,
+    RESERVOIR_PER_WATT,
+    ConstantPowerLoad,
+)
 from shop.physics.transformer import TransformerLoad
 
 CATEGORIES = (
@@ -261,7 +267,9 @@ def unit_load_from_nameplate(
     Notes
     -----
     - Switch-mode: a :class:`ConstantPowerLoad` idling at ``SWITCH_MODE_IDLE_SHARE`` of the
-      nameplate (at least ``SWITCH_MODE_MIN_IDLE``), with a universal input.
+      nameplate (at least ``SWITCH_MODE_MIN_IDLE``), with a universal input: a capacitor
+      input with a reservoir sized to the nameplate up to ``CORRECTED_ABOVE`` (75 W), a
+      power-factor-corrected one above.
     - Valve gear: heaters (:class:`HeaterLoad`) with ``HEATER_SHARE`` of the nameplate, the
       rest as the rectifier's DC load; with a power transformer also its magnetising branch
       (:class:`TransformerLoad` on no load, rated ``VA_PER_WATT`` times the nameplate).
@@ -299,9 +307,30 @@ def unit_load_from_nameplate(
         assumptions.append(
             f"Universal input: starts and stops relative to {UNIVERSAL_INPUT_LOWEST:g} V."
         )
-        return ConstantPowerLoad(idle, rated_voltage=UNIVERSAL_INPUT_LOWEST).with_assumptions(
-            assumptions
-        )
+        if power > CORRECTED_ABOVE:
+            assumptions.append(
+                f"Rated above {CORRECTED_ABOVE:g} W: an input with power-factor correction "
+                "(IEC 61000-3-2 limits the harmonics above 75 W; from memory)."
+            )
+            unit = ConstantPowerLoad(
+                idle, rated_voltage=UNIVERSAL_INPUT_LOWEST, input_stage=POWER_FACTOR_CORRECTED
+            )
+        else:
+            reservoir = RESERVOIR_PER_WATT * power
+            assumptions.append(
+                f"Rated {CORRECTED_ABOVE:g} W or less: a capacitor input without power-factor "
+                f"correction (IEC 61000-3-2 limits the harmonics only above 75 W; from "
+                f"memory), its reservoir {1e6 * reservoir:.3g} uF, "
+                f"{1e6 * RESERVOIR_PER_WATT:.3g} uF per nameplate watt (common practice, no "
+                "source)."
+            )
+            unit = ConstantPowerLoad(
+                idle,
+                rated_voltage=UNIVERSAL_INPUT_LOWEST,
+                reservoir=reservoir,
+                input_stage=CAPACITOR_INPUT,
+            )
+        return unit.with_assumptions(assumptions)
     if construction == "unknown":
         assumptions.append("Construction unknown: taken as a resistance drawing the nameplate.")
         return CompositeLoad([ResistiveLoad.from_rating(voltage, power)]).with_assumptions(

@@ -33,6 +33,9 @@ DEFAULT_REGULATION = 0.08
 FILTERS = ("capacitor", "choke")
 # Rated power is quoted from an ideal source at this frequency unless the unit says otherwise.
 DEFAULT_RATED_FREQUENCY = 60.0  # [Hz]
+# A constant-power DC load (a converter) never sees less than this: it draws P / v, and a
+# discharged reservoir would otherwise ask an infinite current.
+LOWEST_DC_VOLTAGE = 1.0  # [V]
 
 
 class RectifierLoad(ScalableLoad):
@@ -58,7 +61,11 @@ class RectifierLoad(ScalableLoad):
     dc_resistance : float, optional
         DC load as a resistance [ohm].
     dc_current : float, optional
-        DC load as a constant current [A]; give this or ``dc_resistance``.
+        DC load as a constant current [A].
+    dc_power : float, optional
+        DC load as a constant power [W]: a converter behind the reservoir (a switch-mode
+        input), drawing ``dc_power / v_C``, never let see less than ``LOWEST_DC_VOLTAGE``.
+        Give exactly one of ``dc_resistance``, ``dc_current`` and ``dc_power``.
     turns_ratio : float, optional
         Secondary over primary voltage (each half of a centre-tapped secondary). ``None``:
         fed straight from the mains (ratio 1, no winding).
@@ -118,6 +125,7 @@ class RectifierLoad(ScalableLoad):
         choke_inductance=None,
         choke_resistance=0.0,
         rated_frequency=DEFAULT_RATED_FREQUENCY,
+        dc_power=None,
         draw_factor=1.0,
     ):
         super().__init__(draw_factor)
@@ -135,16 +143,22 @@ class RectifierLoad(ScalableLoad):
         self.capacitance = check_scalar(
             capacitance, "capacitance", "F", positive=True, allow_zero=False, high=1.0
         )
-        if (dc_resistance is None) == (dc_current is None):
-            raise ValueError("dc_resistance or dc_current must be given, not both and not neither")
+        given = [value is not None for value in (dc_resistance, dc_current, dc_power)]
+        if sum(given) != 1:
+            raise ValueError(
+                "dc_resistance or dc_current or dc_power must be given: exactly one of them"
+            )
         self.dc_resistance = None
         self.dc_current = None
+        self.dc_power = None
         if dc_resistance is not None:
             self.dc_resistance = check_scalar(
                 dc_resistance, "dc_resistance", "ohm", positive=True, allow_zero=False
             )
-        else:
+        elif dc_current is not None:
             self.dc_current = check_scalar(dc_current, "dc_current", "A", positive=True)
+        else:
+            self.dc_power = check_scalar(dc_power, "dc_power", "W", positive=True)
         self.direct = turns_ratio is None
         self.turns_ratio = (
             1.0
@@ -224,6 +238,8 @@ class RectifierLoad(ScalableLoad):
         volts = self.nominal_dc_voltage
         if self.dc_resistance is not None:
             return volts**2 / self.dc_resistance
+        if self.dc_power is not None:
+            return self.dc_power
         return volts * self.dc_current
 
     def _default_winding_resistance(self):
@@ -236,6 +252,8 @@ class RectifierLoad(ScalableLoad):
         voltage = np.asarray(voltage, dtype=float)
         if self.dc_resistance is not None:
             return voltage / self.dc_resistance
+        if self.dc_power is not None:
+            return self.dc_power / np.maximum(voltage, LOWEST_DC_VOLTAGE)
         return np.where(voltage > 0, self.dc_current, 0.0)
 
     def _impedance_of_one(self, current, frequency):
@@ -262,6 +280,8 @@ class RectifierLoad(ScalableLoad):
         )
         if self.dc_resistance is not None:
             dc = f"a {self.dc_resistance:.4g} ohm DC load"
+        elif self.dc_power is not None:
+            dc = f"a converter drawing {self.dc_power:.3g} W"
         else:
             dc = f"a {1000 * self.dc_current:.3g} mA DC load"
         choke = (
@@ -282,6 +302,23 @@ class RectifierLoad(ScalableLoad):
                 f"The valve rectifier conducts after {self.warm_up_time:g} s of warm-up "
                 "(from memory)."
             )
+        parameters = {
+            "rated_voltage": {"value": self.rated_voltage, "unit": "V"},
+            "topology": {"value": self.topology, "unit": ""},
+            "capacitance": {"value": self.capacitance, "unit": "F"},
+            "dc_resistance": {"value": self.dc_resistance, "unit": "ohm"},
+            "dc_current": {"value": self.dc_current, "unit": "A"},
+            "turns_ratio": {"value": None if self.direct else self.turns_ratio, "unit": ""},
+            "winding_resistance": {"value": self.winding_resistance, "unit": "ohm"},
+            "rectifier": {"value": self.rectifier, "unit": ""},
+            "diode_drop": {"value": self.diode_drop, "unit": "V"},
+            "diode_resistance": {"value": self.diode_resistance, "unit": "ohm"},
+            "warm_up_time": {"value": self.warm_up_time, "unit": "s"},
+            "choke_inductance": {"value": self.choke_inductance, "unit": "H"},
+            "choke_resistance": {"value": self.choke_resistance, "unit": "ohm"},
+        }
+        if self.dc_power is not None:
+            parameters["dc_power"] = {"value": self.dc_power, "unit": "W"}
         return {
             "model": "rectifier",
             "summary": (
@@ -289,21 +326,7 @@ class RectifierLoad(ScalableLoad):
                 f"{1e6 * self.capacitance:.4g} uF reservoir and {dc}{choke}, drawing "
                 f"{self._rated_power_of_one():.3g} W at {self.rated_voltage:g} V"
             ),
-            "parameters": {
-                "rated_voltage": {"value": self.rated_voltage, "unit": "V"},
-                "topology": {"value": self.topology, "unit": ""},
-                "capacitance": {"value": self.capacitance, "unit": "F"},
-                "dc_resistance": {"value": self.dc_resistance, "unit": "ohm"},
-                "dc_current": {"value": self.dc_current, "unit": "A"},
-                "turns_ratio": {"value": None if self.direct else self.turns_ratio, "unit": ""},
-                "winding_resistance": {"value": self.winding_resistance, "unit": "ohm"},
-                "rectifier": {"value": self.rectifier, "unit": ""},
-                "diode_drop": {"value": self.diode_drop, "unit": "V"},
-                "diode_resistance": {"value": self.diode_resistance, "unit": "ohm"},
-                "warm_up_time": {"value": self.warm_up_time, "unit": "s"},
-                "choke_inductance": {"value": self.choke_inductance, "unit": "H"},
-                "choke_resistance": {"value": self.choke_resistance, "unit": "ohm"},
-            },
+            "parameters": parameters,
             "assumptions": assumptions,
         }
 
@@ -311,6 +334,8 @@ class RectifierLoad(ScalableLoad):
         load = (
             f"dc_resistance={self.dc_resistance!r}"
             if self.dc_resistance is not None
+            else f"dc_power={self.dc_power!r}"
+            if self.dc_power is not None
             else f"dc_current={self.dc_current!r}"
         )
         return (

@@ -11,7 +11,9 @@ minimum). A rectifying unit has no impedance and a scalar time-domain reference 
 seconds a reading, so its readings come from :func:`shop.physics.waveform.periodic_steady_state`
 with the true (perturbed) lamp; that solver is checked on its own against ngspice and
 scipy's ``solve_ivp``, and the judgement still sees readings of a lamp it was not told about,
-with meter noise.
+with meter noise. A capacitor-input switch-mode unit's readings come from its own switch-on
+(:func:`shop.physics.switch_mode_start.switch_mode_switch_on`, a step-by-step integration
+from cold), where the judgement shoots for the periodic steady state.
 """
 
 import numpy as np
@@ -20,6 +22,7 @@ from scipy.optimize import brentq, minimize_scalar
 from shop.physics.judgement import Reading
 from shop.physics.lamp import Lamp
 from shop.physics.materials import TABLE_MAX_TEMPERATURE
+from shop.physics.switch_mode_start import CYCLING, DOES_NOT_START, switch_mode_switch_on
 from shop.physics.waveform import periodic_steady_state
 
 # Spread of the lamp that "really" sat in the rig, against the nominal lamp the judgement is
@@ -32,6 +35,9 @@ METER = (0.01, 0.5)
 AMMETER = (0.02, 0.005)
 # An average-responding meter shows the rectified mean times a sine's form factor, pi / 2 sqrt 2.
 SINE_FORM_FACTOR = np.pi / (2.0 * np.sqrt(2.0))
+# A capacitor input's running state: its switch-on followed this long [s] (the start delay,
+# the lamp's warming and the reservoir's settling take well under a second).
+CAPACITOR_INPUT_RUN = 3.0
 
 
 class SeriesInductance:
@@ -145,6 +151,10 @@ def load_operating_point(
             float(figures.current[0]),
             float(figures.lamp_voltage[0]),
         )
+    if getattr(load, "input_stage", None) == "capacitor":
+        return capacitor_input_point(
+            lamp, load, source_voltage, frequency, source_resistance, lamp_bypassed
+        )[:3]
     if getattr(load, "constant_power", False):
         return _constant_power_point(lamp, load, source_voltage, source_resistance, lamp_bypassed)
     if np.isinf(abs(_load_impedance(load, 0.0, frequency))):
@@ -169,6 +179,45 @@ def load_operating_point(
     lamp_voltage = brentq(circuit, 0.0, source_voltage, xtol=1e-13, rtol=1e-15)
     current = lamp_current(lamp, lamp_voltage)
     return current * abs(_load_impedance(load, current, frequency)), current, lamp_voltage
+
+
+def capacitor_input_point(
+    lamp, load, source_voltage, frequency=60.0, source_resistance=0.0, lamp_bypassed=False
+):
+    """A capacitor-input switch-mode unit's running state, from its own switch-on.
+
+    :func:`shop.physics.switch_mode_start.switch_mode_switch_on` followed for
+    ``CAPACITOR_INPUT_RUN`` seconds (its own step-by-step integration, not the shooting the
+    judgement solves with); its last half cycle is the running state. Returns unit volts
+    [V], current [A], lamp volts [V] and the rectified means of unit volts and current
+    [V, A]; all NaN where the unit cycles or never starts; no current and the source's volts
+    where the source is below the start voltage.
+    """
+    if source_voltage < load.start_voltage:
+        return source_voltage, 0.0, 0.0, source_voltage / SINE_FORM_FACTOR, 0.0
+    run = switch_mode_switch_on(
+        lamp,
+        load,
+        np.array([source_voltage]),
+        source_resistance=source_resistance,
+        frequency=frequency,
+        duration=CAPACITOR_INPUT_RUN,
+        lamp_bypassed=lamp_bypassed,
+    )
+    if str(run.behaviour[0]) in (CYCLING, DOES_NOT_START):
+        return (np.nan,) * 5
+    current = float(run.current[-1, 0])
+    lamp_voltage = 0.0
+    if not lamp_bypassed:
+        resistance = lamp.resistance_at_temperature(float(run.filament_temperature[-1, 0]))
+        lamp_voltage = current * float(resistance)
+    return (
+        float(run.load_voltage[-1, 0]),
+        current,
+        lamp_voltage,
+        float(run.average_load_voltage[-1, 0]),
+        float(run.average_current[-1, 0]),
+    )
 
 
 def _constant_power_point(lamp, load, source_voltage, source_resistance, lamp_bypassed):
@@ -263,7 +312,15 @@ def readings(
     taken = []
     for source in steps:
         bypassed = source in bypassed_steps
-        if average_responding and getattr(impedance, "waveform", False):
+        if average_responding and getattr(impedance, "input_stage", None) == "capacitor":
+            load_voltage, current, lamp_voltage, average_volts, average_amps = (
+                capacitor_input_point(
+                    lamp, impedance, source, frequency, source_resistance, lamp_bypassed=bypassed
+                )
+            )
+            load_voltage = average_volts * SINE_FORM_FACTOR
+            current = average_amps * SINE_FORM_FACTOR
+        elif average_responding and getattr(impedance, "waveform", False):
             figures = periodic_steady_state(
                 None if bypassed else lamp,
                 impedance,

@@ -19,6 +19,16 @@ RESERVOIR_PER_WATT = 1.5e-6  # [F/W]
 # (from memory). Only the switch-on model uses it.
 DEFAULT_START_DELAY = 0.2  # [s]
 
+# The input stage: an active power-factor-corrected input draws its power as a resistance
+# would; a capacitor input (a bridge charging a reservoir, no correction) draws it in peaks
+# near the crest. IEC 61000-3-2 limits the harmonics of equipment drawing more than 75 W,
+# which most meet with correction; smaller supplies are mostly plain capacitor inputs
+# (from memory).
+POWER_FACTOR_CORRECTED = "power_factor_corrected"
+CAPACITOR_INPUT = "capacitor"
+INPUT_STAGES = (POWER_FACTOR_CORRECTED, CAPACITOR_INPUT)
+CORRECTED_ABOVE = 75.0  # [W]
+
 RUNNING = "running"
 OFF = "off"
 NO_OPERATING_POINT = "no_operating_point"
@@ -61,6 +71,11 @@ class ConstantPowerLoad(ScalableLoad):
         Time the reservoir must stand above the start threshold before the converter runs [s]
         (its controller's own supply charging up), at the first start and at every restart;
         default ``DEFAULT_START_DELAY``; switch-on model only.
+    input_stage : str, default "power_factor_corrected"
+        ``"power_factor_corrected"``: the steady state draws the power as a resistance would.
+        ``"capacitor"``: the steady state is the bridge and ``reservoir`` feeding a converter
+        that draws the power (:mod:`shop.physics.capacitor_input`), whose current comes in
+        peaks: through a lamp its RMS reads 1.4 to 1.9 times the corrected input's.
 
     Notes
     -----
@@ -73,9 +88,9 @@ class ConstantPowerLoad(ScalableLoad):
     The operating point is the root on the falling side (the lower current and higher unit
     volts: the state a running supply settles in); a source voltage below the minimum of
     :math:`V_s(I)`, or a root whose unit volts are below ``stop_voltage``, leaves no
-    operating point. The input is taken as drawing its power as a resistance would (an
-    active power-factor-corrected input, or the fundamental of a capacitor input); a
-    capacitor input's peaky current is the rectifier model's to describe.
+    operating point. That is the power-factor-corrected input; a capacitor input is solved
+    as a rectifier with a constant-power DC load in the time domain
+    (:func:`shop.physics.capacitor_input.capacitor_input_solution`).
     """
 
     may_cycle = True
@@ -90,6 +105,7 @@ class ConstantPowerLoad(ScalableLoad):
         draw_factor=1.0,
         reservoir=None,
         start_delay=None,
+        input_stage=None,
     ):
         super().__init__(draw_factor)
         self.power = check_scalar(power, "power", "W", positive=True, allow_zero=False)
@@ -118,6 +134,12 @@ class ConstantPowerLoad(ScalableLoad):
             allow_zero=False,
             high=1.0,
         )
+        self.input_stage_given = input_stage is not None
+        self.input_stage = POWER_FACTOR_CORRECTED if input_stage is None else input_stage
+        if self.input_stage not in INPUT_STAGES:
+            raise ValueError(
+                f"input_stage must be one of {', '.join(INPUT_STAGES)} (got {input_stage!r})"
+            )
         self.start_delay_given = start_delay is not None
         self.start_delay = check_scalar(
             DEFAULT_START_DELAY if start_delay is None else start_delay,
@@ -142,6 +164,8 @@ class ConstantPowerLoad(ScalableLoad):
 
     def _description(self):
         description = self._steady_description()
+        if self.input_stage_given:
+            description["parameters"]["input_stage"] = {"value": self.input_stage, "unit": ""}
         # The switch-on model's figures are listed only where given, so that a unit declared
         # as before is described as before.
         if self.reservoir_given:
@@ -151,36 +175,58 @@ class ConstantPowerLoad(ScalableLoad):
         return description
 
     def _steady_description(self):
-        return {
-            "model": "constant_power",
-            "summary": (
+        limits = (
+            f"It starts at {self.start_voltage:.3g} V and stops below "
+            f"{self.stop_voltage:.3g} V (about 80 % and 70 % of the lowest nameplate "
+            "voltage: common practice, no source)."
+        )
+        if self.input_stage == CAPACITOR_INPUT:
+            summary = (
+                f"a switch-mode input drawing {self.power:.3g} W once started through a bridge "
+                f"and a {1e6 * self.reservoir:.3g} uF reservoir (starts at "
+                f"{self.start_voltage:.3g} V, stops below {self.stop_voltage:.3g} V)"
+            )
+            stage = [
+                "A capacitor input without power-factor correction: a bridge charges the "
+                f"{1e6 * self.reservoir:.3g} uF reservoir in peaks near the crest and the "
+                "converter draws its power from the reservoir, stopping where the reservoir "
+                "falls below the stop voltage's crest.",
+            ]
+            if not self.reservoir_given:
+                stage.append(
+                    f"Reservoir of {1e6 * RESERVOIR_PER_WATT:.3g} uF per watt drawn (common "
+                    "practice, no source)."
+                )
+        else:
+            summary = (
                 f"a switch-mode input drawing {self.power:.3g} W once started "
                 f"(starts at {self.start_voltage:.3g} V, stops below {self.stop_voltage:.3g} V)"
-            ),
+            )
+            stage = [
+                "Once running it holds its power whatever its volts, drawing it as a "
+                "resistance would: an input with active power-factor correction.",
+                # The capacitor input's steady state against this one for 5-20 W inputs
+                # through 60-100 W lamps at 105-230 V (measured in this project).
+                "A capacitor input without power-factor correction draws the same power in "
+                "peaks near the crest: through a lamp a healthy one reads about 1.4 to 1.9 "
+                "times this current on a true-RMS ammeter; declare its input stage as "
+                "capacitor.",
+            ]
+        return {
+            "model": "constant_power",
+            "summary": summary,
             "parameters": {
                 "power": {"value": self.power, "unit": "W"},
                 "rated_voltage": {"value": self.rated_voltage, "unit": "V"},
                 "start_voltage": {"value": self.start_voltage, "unit": "V"},
                 "stop_voltage": {"value": self.stop_voltage, "unit": "V"},
             },
-            "assumptions": [
-                f"It starts at {self.start_voltage:.3g} V and stops below "
-                f"{self.stop_voltage:.3g} V (about 80 % and 70 % of the lowest nameplate "
-                "voltage: common practice, no source).",
-                "Once running it holds its power whatever its volts, drawing it as a "
-                "resistance would: an input with active power-factor correction.",
-                # The switch-on model's running state against this steady state for 5-20 W
-                # inputs through 60-100 W lamps at 105-230 V (measured in this project).
-                "A capacitor input without power-factor correction draws the same power in "
-                "peaks near the crest: through a lamp a healthy one reads about 1.4 to 1.9 "
-                "times this current on a true-RMS ammeter, so where only its current reads "
-                "high, its volts are the better guide.",
-            ],
+            "assumptions": [limits, *stage],
         }
 
     def __repr__(self):
         return (
             f"ConstantPowerLoad(power={self.power:g}, rated_voltage={self.rated_voltage:g}, "
             f"start_voltage={self.start_voltage:g}, stop_voltage={self.stop_voltage:g}, "
-            f"draw_factor={factor_repr(self.draw_factor)})"
+            f"input_stage={self.input_stage!r}, draw_factor={factor_repr(self.draw_factor)})"
         )

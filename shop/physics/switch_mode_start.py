@@ -158,10 +158,12 @@ def switch_mode_switch_on(
     the glow looks steady.
 
     The steady figures come from this model's own periodic running state, the last whole
-    cycle of a run whose last two cycles agree within ``PERIODIC_TOLERANCE``. They differ
-    from :func:`shop.physics.circuit.solve_series`, which takes the input as drawing its
-    power as a resistance would: a capacitor input draws the same power in peaks near the
-    crest, so a larger RMS current.
+    cycle of a run whose last two cycles agree within ``PERIODIC_TOLERANCE``. They agree with
+    :func:`shop.physics.circuit.solve_series` for a unit declared with a capacitor input
+    (:mod:`shop.physics.capacitor_input` shoots for the same circuit's steady state; within
+    about 1 %, tests/physics/test_capacitor_input.py), and differ from it for a
+    power-factor-corrected one, which draws its power as a resistance would: a capacitor
+    input draws the same power in peaks near the crest, so a larger RMS current.
 
     ``behaviour`` is ``"does_not_start"`` where the converter never starts within the run
     (a source too low, or a run shorter than the start delay), ``"cycling"``

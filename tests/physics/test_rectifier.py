@@ -235,7 +235,7 @@ def test_describe_says_what_rectifier_and_what_it_draws():
         ({"topology": "triple"}, "topology"),
         ({"rectifier": "selenium"}, "rectifier"),
         ({"capacitance": 0.0}, "capacitance"),
-        ({"dc_current": 0.1}, "dc_resistance or dc_current"),
+        ({"dc_current": 0.1}, "dc_resistance or dc_current or dc_power"),
         ({"topology": "doubler", "choke_inductance": 5.0}, "choke_inductance"),
         ({"turns_ratio": -2.0}, "turns_ratio"),
     ],
