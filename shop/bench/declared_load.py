@@ -29,7 +29,7 @@ from shop.physics.lamp import FILAMENT_TEMPERATURE_RANGE
 from shop.physics.loads import ResistiveLoad
 from shop.physics.nameplate import CATEGORIES, CONSTRUCTIONS, unit_load_from_nameplate
 from shop.physics.rectifier import RECTIFIERS, TOPOLOGIES, RectifierLoad
-from shop.physics.switch_mode import ConstantPowerLoad
+from shop.physics.switch_mode import INPUT_STAGES, ConstantPowerLoad
 from shop.physics.transformer import CORES, TransformerLoad
 
 BASES = ("nameplate", "measured_idle", "estimate")
@@ -129,6 +129,20 @@ class ConstantPowerParameters(serializers.Serializer):
     )
     start_voltage = serializers.FloatField(required=False, min_value=0, max_value=480)
     stop_voltage = serializers.FloatField(required=False, min_value=0, max_value=480)
+    input_stage = serializers.ChoiceField(
+        choices=INPUT_STAGES,
+        required=False,
+        help_text=(
+            "power_factor_corrected (the default: draws its power as a resistance would) or "
+            "capacitor (a bridge and reservoir without correction: peaky current)."
+        ),
+    )
+    reservoir = serializers.FloatField(
+        required=False,
+        min_value=1e-7,
+        max_value=1.0,
+        help_text="Reservoir behind its bridge [F]; default 1.5 uF per watt of power.",
+    )
 
     def validate(self, attrs):
         start = attrs.get("start_voltage", 0.8 * attrs["voltage"])
@@ -153,6 +167,12 @@ class RectifierParameters(serializers.Serializer):
     dc_current = serializers.FloatField(
         required=False, min_value=0.0, max_value=50.0, help_text="DC load as a current [A]."
     )
+    dc_power = serializers.FloatField(
+        required=False,
+        min_value=0.0,
+        max_value=1e4,
+        help_text="DC load as a constant power [W]: a converter behind the reservoir.",
+    )
     turns_ratio = serializers.FloatField(
         required=False,
         allow_null=True,
@@ -170,10 +190,11 @@ class RectifierParameters(serializers.Serializer):
     )
 
     def validate(self, attrs):
-        given = [name for name in ("dc_resistance", "dc_current") if name in attrs]
+        names = ("dc_resistance", "dc_current", "dc_power")
+        given = [name for name in names if name in attrs]
         if len(given) != 1:
-            message = "Give exactly one of dc_resistance and dc_current."
-            raise serializers.ValidationError({"dc_resistance": message, "dc_current": message})
+            message = "Give exactly one of dc_resistance, dc_current and dc_power."
+            raise serializers.ValidationError(dict.fromkeys(names, message))
         return attrs
 
 
@@ -255,6 +276,8 @@ def build_constant_power(parameters: dict, configuration: dict) -> ConstantPower
         rated_voltage=parameters["voltage"],
         start_voltage=parameters.get("start_voltage"),
         stop_voltage=parameters.get("stop_voltage"),
+        reservoir=parameters.get("reservoir"),
+        input_stage=parameters.get("input_stage"),
     )
 
 
@@ -273,6 +296,7 @@ def build_rectifier(parameters: dict, configuration: dict) -> RectifierLoad:
         for name in (
             "dc_resistance",
             "dc_current",
+            "dc_power",
             "winding_resistance",
             "choke_inductance",
             "choke_resistance",

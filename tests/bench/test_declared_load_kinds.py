@@ -112,6 +112,13 @@ def test_a_nameplate_prediction_lists_its_assumptions(client_for, db):
         ("transformer", {"voltage": 120, "va": 50, "frequency": 400}, "frequency"),
         ("constant_power", {"power": 10, "voltage": 100, "stop_voltage": 95}, "stop_voltage"),
         ("constant_power", {"power": -10, "voltage": 100}, "power"),
+        ("constant_power", {"power": 10, "voltage": 100, "input_stage": "valve"}, "input_stage"),
+        ("constant_power", {"power": 10, "voltage": 100, "reservoir": 0}, "reservoir"),
+        (
+            "rectifier",
+            {"voltage": 120, "capacitance": 1e-4, "dc_current": 0.1, "dc_power": 5},
+            "dc_power",
+        ),
         ("nameplate", {"voltage": 120, "power": 60, "category": "toaster"}, "category"),
         ("nameplate", {"voltage": 120, "power": 60, "year": 1700}, "year"),
         (
@@ -189,3 +196,19 @@ def test_a_switch_mode_document_builds_a_constant_power_input():
     load = physics_load(validated_document(_document("constant_power")))
     assert isinstance(load, ConstantPowerLoad)
     assert load.start_voltage == pytest.approx(80.0, rel=1e-12)
+
+
+def test_a_capacitor_input_prediction_draws_more_current_than_a_corrected_one(client_for, db):
+    corrected = _document("constant_power")
+    capacitor = _document("constant_power")
+    capacitor["parameters"] = {**capacitor["parameters"], "input_stage": "capacitor"}
+    answers = [
+        _predict(client_for, document, LAMP_230, RIG_230) for document in (corrected, capacitor)
+    ]
+    for response in answers:
+        assert response.status_code == 200, response.content
+    plain, peaky = (response.json() for response in answers)
+    assert peaky["model"]["parameters"]["input_stage"]["value"] == "capacitor"
+    assert any("capacitor input" in line for line in peaky["model"]["assumptions"])
+    # Running at full source: the same power drawn in peaks (shop/physics/capacitor_input.py).
+    assert peaky["current"][-1] > 1.3 * plain["current"][-1] > 0
