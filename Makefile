@@ -33,6 +33,7 @@ bench: install
 	$(BIN)/python bench/report_bench.py
 	$(BIN)/python bench/loads_bench.py
 	$(BIN)/python bench/switch_mode_bench.py
+	$(BIN)/python bench/capacitor_input_bench.py
 	$(BIN)/python bench/warm_up_bench.py
 	$(MAKE) bench-large
 
