@@ -169,3 +169,33 @@ def test_a_charger_drawing_three_times_its_power_does_not_pass():
     # Through a 100 W lamp it cannot hold 60 W: its glow cycles where a healthy one runs.
     assert verdict.outcome in ("fail", "marginal"), verdict.reasons
     assert "glow_cycling_unexpected" in {reason.code for reason in verdict.reasons}
+
+
+def test_an_average_responding_ammeter_on_its_peaks_is_judged_as_that_meter_reads():
+    rng = np.random.default_rng(3)
+    readings = reference.readings(
+        reference.random_perturbed_lamp(LAMP_100, rng),
+        CHARGER,
+        [112.0, 120.0],
+        rng,
+        source_resistance=RIG,
+        with_current=True,
+        average_responding=True,
+    )
+    verdicts = {
+        response: judge(
+            LAMP_100,
+            CHARGER,
+            readings,
+            nominal_source_voltage=120.0,
+            source_resistance=RIG,
+            voltmeter_response=response,
+            ammeter_response=response,
+        )
+        for response in ("average_responding", "true_rms")
+    }
+    # The peaky current reads about two thirds of its RMS on such a meter: judged as read,
+    # the unit passes; taken for true RMS, it would seem to draw about half its power.
+    assert verdicts["average_responding"].outcome == "pass", verdicts["average_responding"].reasons
+    assert verdicts["true_rms"].outcome != "pass"
+    assert "draw_below_band" in {reason.code for reason in verdicts["true_rms"].reasons}
