@@ -13,7 +13,7 @@ from dataclasses import fields
 import numpy as np
 
 from shop.physics.rectifier import RectifierLoad
-from shop.physics.waveform import Network, WaveformFigures, _solve
+from shop.physics.waveform import Network, WaveformFigures, _Lamp, _solve, _steps_per_cycle
 
 # RK4 steps a cycle, at least (more where the charging's time constant asks): half the
 # shooting's general minimum. Against the unit's own switch-on on 480 points (chargers of
@@ -103,26 +103,39 @@ def capacitor_input_solution(
     if running.any():
         rectifier = input_rectifier(load)
         network = Network(rectifier, frequency)
-        # The first guess of each column: the unit as V_s^2 / P at its own source voltage
-        # (the shooting's guess reads the rectifier's rated volts over this "rated" power).
-        guess_power = load.power * (rectifier.rated_voltage / source[running]) ** 2
-        solved = _solve(
-            network,
-            None if bypassed else lamp,
-            source[running],
-            factor[running],
-            source_resistance,
-            guess_power,
-            strict=False,
-            floor=np.sqrt(2.0) * load.stop_voltage,
-            steps_min=STEPS_PER_CYCLE_MIN,
-        )
-        stopped = solved["lowest_dc_voltage"] < np.sqrt(2.0) * load.stop_voltage
-        holds = solved["converged"] & ~stopped & np.isfinite(solved["current"])
         columns = np.flatnonzero(running)
-        for name in FIGURES:
-            figures[name][columns] = solved[name]
-        missing[columns[~holds]] = True
+        # A column of a small draw (a small reservoir) needs a fine step; shot apart, it does
+        # not impose it on the rest: columns go in groups of steps within a factor of two.
+        steps = _steps_per_cycle(
+            network,
+            None if bypassed else _Lamp(lamp),
+            source[columns],
+            factor[columns],
+            source_resistance,
+            STEPS_PER_CYCLE_MIN,
+        )
+        groups = np.ceil(np.log2(steps)).astype(int)
+        for group in np.unique(groups):
+            chosen = columns[groups == group]
+            # The first guess of each column: the unit as V_s^2 / P at its own source
+            # voltage (the shooting's guess reads the rectifier's rated volts over this).
+            guess_power = load.power * (rectifier.rated_voltage / source[chosen]) ** 2
+            solved = _solve(
+                network,
+                None if bypassed else lamp,
+                source[chosen],
+                factor[chosen],
+                source_resistance,
+                guess_power,
+                strict=False,
+                floor=np.sqrt(2.0) * load.stop_voltage,
+                steps_min=STEPS_PER_CYCLE_MIN,
+            )
+            stopped = solved["lowest_dc_voltage"] < np.sqrt(2.0) * load.stop_voltage
+            holds = solved["converged"] & ~stopped & np.isfinite(solved["current"])
+            for name in FIGURES:
+                figures[name][chosen] = solved[name]
+            missing[chosen[~holds]] = True
     for name in FIGURES:
         figures[name][missing] = np.nan
     return figures, off, missing, shape
