@@ -167,12 +167,6 @@ class RectifierParameters(serializers.Serializer):
     dc_current = serializers.FloatField(
         required=False, min_value=0.0, max_value=50.0, help_text="DC load as a current [A]."
     )
-    dc_power = serializers.FloatField(
-        required=False,
-        min_value=0.0,
-        max_value=1e4,
-        help_text="DC load as a constant power [W]: a converter behind the reservoir.",
-    )
     turns_ratio = serializers.FloatField(
         required=False,
         allow_null=True,
@@ -190,11 +184,10 @@ class RectifierParameters(serializers.Serializer):
     )
 
     def validate(self, attrs):
-        names = ("dc_resistance", "dc_current", "dc_power")
-        given = [name for name in names if name in attrs]
+        given = [name for name in ("dc_resistance", "dc_current") if name in attrs]
         if len(given) != 1:
-            message = "Give exactly one of dc_resistance, dc_current and dc_power."
-            raise serializers.ValidationError(dict.fromkeys(names, message))
+            message = "Give exactly one of dc_resistance and dc_current."
+            raise serializers.ValidationError({"dc_resistance": message, "dc_current": message})
         return attrs
 
 
@@ -296,7 +289,6 @@ def build_rectifier(parameters: dict, configuration: dict) -> RectifierLoad:
         for name in (
             "dc_resistance",
             "dc_current",
-            "dc_power",
             "winding_resistance",
             "choke_inductance",
             "choke_resistance",

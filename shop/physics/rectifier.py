@@ -65,7 +65,11 @@ class RectifierLoad(ScalableLoad):
     dc_power : float, optional
         DC load as a constant power [W]: a converter behind the reservoir (a switch-mode
         input), drawing ``dc_power / v_C``, never let see less than ``LOWEST_DC_VOLTAGE``.
-        Give exactly one of ``dc_resistance``, ``dc_current`` and ``dc_power``.
+        Give exactly one of ``dc_resistance``, ``dc_current`` and ``dc_power``. Through a
+        lamp such a load may have no steady state, and
+        :func:`shop.physics.waveform.periodic_steady_state` then raises; a switch-mode unit
+        declared as :class:`shop.physics.switch_mode.ConstantPowerLoad` with a capacitor
+        input answers "no operating point" instead (the service offers only that).
     turns_ratio : float, optional
         Secondary over primary voltage (each half of a centre-tapped secondary). ``None``:
         fed straight from the mains (ratio 1, no winding).

@@ -11,7 +11,8 @@ START_FRACTION = 0.8
 STOP_FRACTION = 0.7
 # A capacitor-input (universal-input) switch-mode supply carries about 1-2 uF of reservoir per
 # watt it draws, more for a 100-120 V only input and less for a 230 V only one (common
-# practice, no source). Only the switch-on model (shop.physics.switch_mode_start) uses it.
+# practice, no source). The switch-on model (shop.physics.switch_mode_start) and a capacitor
+# input's steady state (shop.physics.capacitor_input) use it.
 RESERVOIR_PER_WATT = 1.5e-6  # [F/W]
 # An off-line converter's controller runs from its own small supply, charged from the reservoir
 # through a start-up resistor or current source: about 10-50 uF brought to its 10-16 V turn-on
@@ -64,9 +65,10 @@ class ConstantPowerLoad(ScalableLoad):
         of ``rated_voltage``; at most ``start_voltage``.
     reservoir : float, optional
         Reservoir capacitor behind its bridge rectifier [F], for the switch-on model
-        (:func:`shop.physics.switch_mode_start.switch_mode_switch_on`); default
-        ``RESERVOIR_PER_WATT`` times ``power``, which understates it for a large supply
-        declared at its idle draw: give it where known. The steady state does not use it.
+        (:func:`shop.physics.switch_mode_start.switch_mode_switch_on`) and a capacitor
+        input's steady state; default ``RESERVOIR_PER_WATT`` times ``power``, which
+        understates it for a large supply declared at its idle draw: give it where known
+        (the nameplate builder sizes it to the nameplate).
     start_delay : float, default 0.2
         Time the reservoir must stand above the start threshold before the converter runs [s]
         (its controller's own supply charging up), at the first start and at every restart;

@@ -114,11 +114,6 @@ def test_a_nameplate_prediction_lists_its_assumptions(client_for, db):
         ("constant_power", {"power": -10, "voltage": 100}, "power"),
         ("constant_power", {"power": 10, "voltage": 100, "input_stage": "valve"}, "input_stage"),
         ("constant_power", {"power": 10, "voltage": 100, "reservoir": 0}, "reservoir"),
-        (
-            "rectifier",
-            {"voltage": 120, "capacitance": 1e-4, "dc_current": 0.1, "dc_power": 5},
-            "dc_power",
-        ),
         ("nameplate", {"voltage": 120, "power": 60, "category": "toaster"}, "category"),
         ("nameplate", {"voltage": 120, "power": 60, "year": 1700}, "year"),
         (
