@@ -25,6 +25,15 @@ SOURCES = np.array([[90.0], [105.0], [120.0]])
 AGREEMENT = 0.02
 
 
+def _readings(load, seed, **options):
+    """Readings at 112 and 120 V with a current, through a lamp of the usual spread."""
+    rng = np.random.default_rng(seed)
+    lamp = reference.random_perturbed_lamp(LAMP_100, rng)
+    return reference.readings(
+        lamp, load, [112.0, 120.0], rng, source_resistance=RIG, with_current=True, **options
+    )
+
+
 @pytest.fixture(scope="module")
 def grid():
     """The charger at 0.5-3x its draw and 90-120 V: shot, and followed from switch-on."""
@@ -119,15 +128,7 @@ def test_a_capacitor_input_agrees_with_ngspice():
 def test_healthy_capacitor_input_readings_pass_and_only_its_own_model_passes_them():
     # Readings from the unit's own switch-on (scenarios.py), with meter noise, a current
     # measured: the model that draws the power as a resistance would reads them as too much.
-    rng = np.random.default_rng(7)
-    readings = reference.readings(
-        reference.random_perturbed_lamp(LAMP_100, rng),
-        CHARGER,
-        [112.0, 120.0],
-        rng,
-        source_resistance=RIG,
-        with_current=True,
-    )
+    readings = _readings(CHARGER, seed=7)
     verdicts = [
         judge(LAMP_100, load, readings, nominal_source_voltage=120.0, source_resistance=RIG)
         for load in (CHARGER, CORRECTED)
@@ -154,15 +155,7 @@ def test_the_nameplate_takes_small_supplies_as_capacitor_inputs(power, stage):
 
 
 def test_a_charger_drawing_three_times_its_power_does_not_pass():
-    rng = np.random.default_rng(11)
-    readings = reference.readings(
-        reference.random_perturbed_lamp(LAMP_100, rng),
-        CHARGER.scaled(3.0),
-        [112.0, 120.0],
-        rng,
-        source_resistance=RIG,
-        with_current=True,
-    )
+    readings = _readings(CHARGER.scaled(3.0), seed=11)
     verdict = judge(
         LAMP_100, CHARGER, readings, nominal_source_voltage=120.0, source_resistance=RIG
     )
@@ -172,16 +165,7 @@ def test_a_charger_drawing_three_times_its_power_does_not_pass():
 
 
 def test_an_average_responding_ammeter_on_its_peaks_is_judged_as_that_meter_reads():
-    rng = np.random.default_rng(3)
-    readings = reference.readings(
-        reference.random_perturbed_lamp(LAMP_100, rng),
-        CHARGER,
-        [112.0, 120.0],
-        rng,
-        source_resistance=RIG,
-        with_current=True,
-        average_responding=True,
-    )
+    readings = _readings(CHARGER, seed=3, average_responding=True)
     verdicts = {
         response: judge(
             LAMP_100,
