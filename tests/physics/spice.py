@@ -93,6 +93,25 @@ def source(volts, frequency, resistance, phase=0.0):
     return f"V1 src 0 SIN(0 {np.sqrt(2) * volts} {frequency} 0 0 {phase})\nRS src u {resistance}\n"
 
 
+def _core_and_taps(transformer, turns, frequency, node):
+    """A transformer's T circuit at ``node`` and the two halves of a centre-tapped secondary.
+
+    The primary's resistance, the core's loss and reflected load as a resistance to node
+    ``m``, the magnetising current held as the voltage of a 1 F capacitor ``x`` (see
+    :func:`valve_set`), and ideal windings of ratio ``turns`` from ``node`` to ``a1`` and
+    ``b1``, their currents fed back to the primary.
+    """
+    scale = transformer.saturation_flux(frequency) / transformer.knee_current
+    slope = float(magnetising_flux_slope(np.inf, transformer.core))
+    knee = transformer.knee_current
+    inner = transformer.core_conductance + transformer.load_conductance
+    body = f"R1 {node} m {transformer.primary_resistance}\nRC m 0 {1 / inner}\n"
+    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + {2 / np.pi} / "
+    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
+    body += f"EA a 0 {node} 0 {turns}\nEB b 0 {node} 0 {-turns}\nVSA a a1 0\nVSB b b1 0\n"
+    return body + f"FA {node} 0 VSA {turns}\nFB {node} 0 VSB {-turns}\n"
+
+
 def valve_set(transformer, heater_resistance, rectifier, unit_voltage, frequency):
     """A transformer's core, heaters and a centre-tap rectifier at node ``u``; its ``.ic``.
 
@@ -101,16 +120,11 @@ def valve_set(transformer, heater_resistance, rectifier, unit_voltage, frequency
     the curve of ``shop.physics.transformer.magnetising_flux``. It starts near its steady
     flux at the unit's RMS voltage ``unit_voltage`` [V], so that the run settles quickly.
     """
-    scale = transformer.saturation_flux(frequency) / transformer.knee_current
-    slope = float(magnetising_flux_slope(np.inf, transformer.core))
     knee = transformer.knee_current
-    n, path = rectifier.turns_ratio, rectifier.winding_resistance
+    path = rectifier.winding_resistance
     body = f"RH u 0 {heater_resistance}\n"
-    body += f"R1 u m {transformer.primary_resistance}\nRC m 0 {1 / transformer.core_conductance}\n"
-    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + {2 / np.pi} / "
-    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
-    body += f"EA a 0 u 0 {n}\nEB b 0 u 0 {-n}\nVSA a a1 0\nVSB b b1 0\n"
-    body += f"FA u 0 VSA {n}\nFB u 0 VSB {-n}\nRWA a1 a2 {path}\nRWB b1 b2 {path}\n"
+    body += _core_and_taps(transformer, rectifier.turns_ratio, frequency, "u")
+    body += f"RWA a1 a2 {path}\nRWB b1 b2 {path}\n"
     body += diode("1", "a2", "out", rectifier.diode_drop, rectifier.diode_resistance)
     body += diode("2", "b2", "out", rectifier.diode_drop, rectifier.diode_resistance)
     body += f"C1 out 0 {rectifier.capacitance}\nRL out 0 {rectifier.dc_resistance}\n"
@@ -175,17 +189,8 @@ def valve_set_switch_on(transformer, heater, rectifier, frequency, magnetising_c
     in proportion to ``min(time / warm_up_time, 1)``, the reservoir starting discharged.
     Returns the netlist lines and the ``.ic`` entries.
     """
-    scale = transformer.saturation_flux(frequency) / transformer.knee_current
-    slope = float(magnetising_flux_slope(np.inf, transformer.core))
-    knee = transformer.knee_current
-    inner = transformer.core_conductance + transformer.load_conductance
-    n = rectifier.turns_ratio
     body, heater_ic = heater_switch_on(heater, 1.0, node, "th")
-    body += f"R1 {node} m {transformer.primary_resistance}\nRC m 0 {1 / inner}\n"
-    body += f"CX x 0 1\nBX 0 x I = v(m) / ({scale} * ({slope} + {2 / np.pi} / "
-    body += f"(1 + (v(x) / {knee})^2)))\nBM m 0 I = v(x)\n"
-    body += f"EA a 0 {node} 0 {n}\nEB b 0 {node} 0 {-n}\nVSA a a1 0\nVSB b b1 0\n"
-    body += f"FA {node} 0 VSA {n}\nFB {node} 0 VSB {-n}\n"
+    body += _core_and_taps(transformer, rectifier.turns_ratio, frequency, node)
     warm = "1" if rectifier.warm_up_time == 0 else f"min(time / {rectifier.warm_up_time}, 1)"
     for name, start in (("1", "a1"), ("2", "b1")):
         body += f"BW{name} {start} w{name} I = v({start}, w{name}) * {warm} / "
