@@ -13,6 +13,7 @@ from rest_framework import exceptions
 from rest_framework.authentication import TokenAuthentication
 
 from .audit import audit_record
+from .roles import remember_roles, role_annotations
 
 # DRF loads this module while the apps are still loading (through the authentication setting),
 # so the Token model is imported inside the functions, as DRF's own TokenAuthentication does.
@@ -24,10 +25,25 @@ def token_expires_at(token) -> datetime:
 
 
 class ExpiringTokenAuthentication(TokenAuthentication):
-    """Token authentication that refuses a token older than TOKEN_TTL_HOURS."""
+    """Token authentication that refuses a token older than TOKEN_TTL_HOURS.
+
+    The token, its user and the user's roles come in one query.
+    """
 
     def authenticate_credentials(self, key):
-        user, token = super().authenticate_credentials(key)
+        model = self.get_model()
+        try:
+            token = (
+                model.objects.select_related("user")
+                .annotate(**role_annotations("user"))
+                .get(key=key)
+            )
+        except model.DoesNotExist:
+            raise exceptions.AuthenticationFailed("Invalid token.") from None
+        if not token.user.is_active:
+            raise exceptions.AuthenticationFailed("User inactive or deleted.")
+        user = token.user
+        remember_roles(user, token)
         expired_at = token_expires_at(token)
         if expired_at <= timezone.now():
             raise exceptions.AuthenticationFailed(

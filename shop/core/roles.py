@@ -31,6 +31,32 @@ def user_roles(user) -> frozenset[str]:
     return cached
 
 
+def role_annotations(user_field: str) -> dict:
+    """Annotations that read the roles of the user at `user_field` in the same query.
+
+    `Token.objects.select_related("user").annotate(**role_annotations("user"))` brings the
+    token, its user and the user's roles in one query; `remember_roles` then caches them.
+    """
+    from django.contrib.auth import get_user_model
+    from django.db.models import Exists, OuterRef
+
+    memberships = get_user_model().groups.through.objects
+    return {
+        f"_holds_{role}": Exists(
+            memberships.filter(user_id=OuterRef(f"{user_field}_id"), group__name=role)
+        )
+        for role in ROLES
+    }
+
+
+def remember_roles(user, annotated) -> None:
+    """Cache on `user` the roles read by `role_annotations` into the row `annotated`."""
+    if user.is_superuser:
+        user._shop_roles = ANY_ROLE
+    else:
+        user._shop_roles = frozenset(r for r in ROLES if getattr(annotated, f"_holds_{r}"))
+
+
 def has_role(user, *roles: str) -> bool:
     """Whether the user holds at least one of `roles`."""
     return bool(user_roles(user) & set(roles))

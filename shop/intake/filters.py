@@ -19,7 +19,11 @@ class JobFilter(django_filters.FilterSet):
     customer = django_filters.NumberFilter(field_name="unit__owner")
     received_after = django_filters.DateFilter(field_name="received_on", lookup_expr="gte")
     received_before = django_filters.DateFilter(field_name="received_on", lookup_expr="lte")
-    state = django_filters.MultipleChoiceFilter(choices=Job._meta.get_field("state").choices)
+    # A job's own column: no to-many join, so no SELECT DISTINCT (django-filter's default),
+    # which would compare every selected column of every joined row.
+    state = django_filters.MultipleChoiceFilter(
+        choices=Job._meta.get_field("state").choices, distinct=False
+    )
 
     class Meta:
         model = Job

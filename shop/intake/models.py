@@ -223,7 +223,12 @@ class Job(Versioned):
 
     class Meta:
         ordering = ["-received_on", "-id"]
-        indexes = [models.Index(fields=["state", "received_on"])]
+        indexes = [
+            # Both match the default ordering, with and without a state filter, so a page of
+            # the newest jobs walks an index instead of sorting the whole table.
+            models.Index(fields=["state", "-received_on", "-id"], name="job_state_newest_first"),
+            models.Index(fields=["-received_on", "-id"], name="job_newest_first"),
+        ]
 
     def __str__(self) -> str:
         return self.number

@@ -16,7 +16,10 @@ def unit_list() -> QuerySet[Unit]:
 
 
 def job_list() -> QuerySet[Job]:
-    return Job.objects.select_related("unit", "unit__owner", "assigned_technician")
+    # The technician's password hash has no business in a job page: never read it.
+    return Job.objects.select_related("unit", "unit__owner", "assigned_technician").defer(
+        "assigned_technician__password"
+    )
 
 
 def job_moves(*, job: Job) -> QuerySet[JobMove]:
