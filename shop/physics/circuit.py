@@ -21,6 +21,11 @@ SOLVER_RELATIVE_TOLERANCE = 1e-13
 SOLVER_RESIDUAL_LIMIT = 1e-9  # [V] per volt of source above 1 V
 # Doublings of the first current guess allowed while bracketing a bypassed operating point.
 BRACKET_MAX_DOUBLINGS = 60
+# Up to this many distinct loads (columns) the source volts each needs are tabulated on the
+# lamp's whole curve; beyond, on every WIDE_LOAD_STRIDE-th point of it, so that memory does not
+# grow as (curve points x readings).
+NARROW_LOAD_COLUMNS = 64
+WIDE_LOAD_STRIDE = 128
 
 # What the unit does at each point: a steady operating point; off (a switch-mode input below
 # its start voltage, drawing nothing); or no operating point at all (a constant-power unit that
@@ -189,36 +194,64 @@ def _unit_side(load, current, target, frequency, open_):
     return load_voltage, load_power
 
 
-def _series_solution(lamp, load, target, source_resistance, frequency):
-    """Lamp volts, current and the open-unit mask, shaped like target and load broadcast."""
-    load_shape = _load_shape(load, frequency)
-    shape = np.broadcast_shapes(target.shape, load_shape)
-    curve = lamp.curve()
-    grid_voltage = np.asarray(curve.voltage, dtype=float)
-    grid_current = np.asarray(curve.current, dtype=float)
-    column = (-1,) + (1,) * len(load_shape)
-    grid_impedance = load.impedance(grid_current.reshape(column), frequency)
-    grid_impedance = np.broadcast_to(grid_impedance, (grid_voltage.size,) + load_shape)
-    open_ = _open_columns(grid_impedance[1:])
+def _required_source(grid_voltage, grid_current, impedance, open_, source_resistance):
+    """Source volts that drive the lamp at curve points: ``|V_lamp + I (R_s + Z)|``."""
     with np.errstate(invalid="ignore"):
-        required = np.abs(
-            grid_voltage.reshape(column)
-            + grid_current.reshape(column)
-            * (source_resistance + np.where(open_, 0.0, grid_impedance))
+        return np.abs(
+            grid_voltage + grid_current * (source_resistance + np.where(open_, 0.0, impedance))
         )
-    required[0] = 0.0
+
+
+def _grid_table(curve, load, load_shape, source_resistance, frequency, rows):
+    """Open mask and the source volts needed at the curve's ``rows``, one column per load.
+
+    Returns ``(open_, required)``, ``required`` shaped ``(rows.size, columns)``; the first
+    curve point (no current) needs no source volts. Refuses a load that opens at some
+    currents only, or whose needed source volts do not rise with the current.
+    """
+    column = (-1,) + (1,) * len(load_shape)
+    voltage, current = curve.voltage[rows], curve.current[rows]
+    impedance = load.impedance(current.reshape(column), frequency)
+    impedance = np.broadcast_to(impedance, (rows.size,) + load_shape).reshape(rows.size, -1)
+    open_ = _open_columns(impedance[rows > 0])
+    required = _required_source(
+        voltage[:, None], current[:, None], impedance, open_, source_resistance
+    )
+    required[rows == 0] = 0.0
     if not (np.diff(required, axis=0) > 0).all():
         raise ValueError(
             "load has no unique operating point with this lamp: the source voltage needed "
             "does not rise with the current (a load whose voltage falls as it draws more, "
             "such as a constant-power input, needs its own model)"
         )
+    return open_, required
 
-    required = required.reshape(grid_voltage.size, -1)
-    open_ = np.broadcast_to(open_.reshape(load_shape), shape).ravel()
-    column_of_point = np.broadcast_to(
-        np.arange(required.shape[1]).reshape(load_shape), shape
-    ).ravel()
+
+def _series_solution(lamp, load, target, source_resistance, frequency):
+    """Lamp volts, current and the open-unit mask, shaped like target and load broadcast.
+
+    Each point starts bracketed between the two neighbouring points of the lamp's curve
+    where the source volts it needs pass its target. With few distinct loads (columns) they
+    are tabulated on the whole curve, per column, and each point found by ``searchsorted``.
+    With many (a draw per reading, as the draw inference asks) a whole table would grow
+    with the readings: the loads are tabulated (and checked: open or not, rising) on every
+    ``WIDE_LOAD_STRIDE``-th curve point, and each point's bracket narrowed from there by a
+    bisection over the curve's indices, every point at once. Both find the same bracket.
+    """
+    load_shape = _load_shape(load, frequency)
+    shape = np.broadcast_shapes(target.shape, load_shape)
+    curve = lamp.curve()
+    grid_voltage = np.asarray(curve.voltage, dtype=float)
+    grid_current = np.asarray(curve.current, dtype=float)
+    size = grid_voltage.size
+    columns = int(np.prod(load_shape, dtype=int))
+    narrow = columns <= NARROW_LOAD_COLUMNS
+    rows = np.arange(size) if narrow else np.unique(np.r_[0:size:WIDE_LOAD_STRIDE, size - 1])
+    open_columns, required = _grid_table(
+        curve, load, load_shape, source_resistance, frequency, rows
+    )
+    open_ = np.broadcast_to(open_columns.reshape(load_shape), shape).ravel()
+    column_of_point = np.broadcast_to(np.arange(columns).reshape(load_shape), shape).ravel()
     flat_target = np.broadcast_to(target, shape).ravel()
     largest = required[-1, column_of_point]
     beyond = (flat_target > largest) & ~open_
@@ -229,14 +262,40 @@ def _series_solution(lamp, load, target, source_resistance, frequency):
             f"with this load and source resistance (at most {largest[worst]:.4g} V)"
         )
 
-    if required.shape[1] == 1:
-        index = np.searchsorted(required[:, 0], flat_target)
+    def needed_at(index):
+        """The source volts each point needs at its own curve index."""
+        impedance = load.impedance(grid_current[index].reshape(shape), frequency).ravel()
+        needed = _required_source(
+            grid_voltage[index], grid_current[index], impedance, open_, source_resistance
+        )
+        return np.where(index == 0, 0.0, needed)
+
+    # How many curve points need less than the target (searchsorted's left side).
+    if narrow:
+        index = np.empty(flat_target.size, dtype=np.intp)
+        for column in range(columns):
+            points = column_of_point == column
+            index[points] = np.searchsorted(required[:, column], flat_target[points])
     else:
-        index = (required[:, column_of_point] < flat_target).sum(axis=0)
-    index = np.clip(index, 1, grid_voltage.size - 1)
+        below = np.zeros(flat_target.size, dtype=np.intp)
+        for row in range(rows.size):
+            below += required[row, column_of_point] < flat_target
+        low = np.where(below > 0, rows[np.maximum(below - 1, 0)] + 1, 0)
+        high = rows[np.minimum(below, rows.size - 1)]
+        while (active := low < high).any():
+            middle = (low + high) // 2
+            short = needed_at(middle) < flat_target
+            low = np.where(active & short, middle + 1, low)
+            high = np.where(active & ~short, middle, high)
+        index = low
+    index = np.clip(index, 1, size - 1)
+    if narrow:
+        f_lower = required[index - 1, column_of_point] - flat_target
+        f_upper = required[index, column_of_point] - flat_target
+    else:
+        f_lower = needed_at(index - 1) - flat_target
+        f_upper = needed_at(index) - flat_target
     lower, upper = grid_voltage[index - 1], grid_voltage[index]
-    f_lower = required[index - 1, column_of_point] - flat_target
-    f_upper = required[index, column_of_point] - flat_target
     latest = {}
 
     def residual(lamp_voltage):

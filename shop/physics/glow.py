@@ -190,6 +190,58 @@ def glow_class(temperature, rated_temperature):
     return np.asarray(np.asarray(GLOW_CLASSES)[index])
 
 
+@cache
+def _class_thresholds(rated_temperature):
+    """The filament temperatures where each glow class begins, for one rated temperature.
+
+    Luminance rises with temperature, so each limit of ``glow_class`` is one temperature:
+    the lowest float at which the relative luminance reaches it (bisected to adjacent
+    floats), held no lower than the class before it. Read-only array of four [K].
+    """
+    rated_luminance = luminance(np.array(rated_temperature))
+    low = np.full(3, 1.0)  # [K], far too cool to reach any limit
+    high = np.full(3, 1.0e5)  # [K], far hotter than any limit
+    limits = np.array([FAINT_LIMIT, DULL_LIMIT, MEDIUM_LIMIT])
+    while True:
+        middle = 0.5 * (low + high)
+        open_ = (middle > low) & (middle < high)
+        if not open_.any():
+            break
+        reached = luminance(middle) / rated_luminance >= limits
+        high = np.where(open_ & reached, middle, high)
+        low = np.where(open_ & ~reached, middle, low)
+    thresholds = np.maximum.accumulate(np.concatenate([[DRAPER_POINT], high]))
+    thresholds.setflags(write=False)
+    return thresholds
+
+
+def glow_class_of_lamp(temperature, rated_temperature):
+    """
+    :func:`glow_class` for one lamp (a scalar rated temperature), read from its thresholds.
+
+    Parameters
+    ----------
+    temperature : numeric
+        filament temperature [K]
+    rated_temperature : float
+        the lamp's filament temperature at rated voltage [K]
+
+    Returns
+    -------
+    glow : numpy.ndarray of str
+        one of ``GLOW_CLASSES`` per element, shaped like ``temperature``; the same classes
+        as :func:`glow_class`, without a spectral sum per element.
+    """
+    values = _check_positive_temperature(temperature)
+    rated = float(_check_positive_temperature(rated_temperature, "rated_temperature"))
+    if rated <= DRAPER_POINT:
+        raise ValueError(
+            f"rated_temperature must be above the Draper point {DRAPER_POINT:g} K (got {rated:g} K)"
+        )
+    index = np.searchsorted(_class_thresholds(rated), values, side="right")
+    return np.asarray(np.asarray(GLOW_CLASSES)[index])
+
+
 def glow_colour(temperature):
     """
     CIE 1931 chromaticity of the Planckian radiator, for a colour swatch of the glow.
