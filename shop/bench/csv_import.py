@@ -21,8 +21,12 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 
 from django.conf import settings
+from django.core.validators import MaxValueValidator, MinValueValidator
+from rest_framework import serializers
+from rest_framework.fields import SkipField, empty
 
 from shop.core.errors import ApplicationError
 
@@ -84,33 +88,113 @@ def parse_readings(upload) -> list[dict]:
             f"columns; known columns: {', '.join(COLUMNS)}."
         )
     reader.fieldnames = header
+    cells = _CellRules([COLUMNS[column] for column in header if column != "bypassed"])
     readings = []
     for row_number, row in enumerate(reader, start=2):
         if len(readings) >= limit:
             raise _refuse(f"The file has more than {limit} readings; split it.")
         if None in row:
             raise _refuse(f"Row {row_number} has more cells than the header has columns.")
-        data = {}
-        for column, value in row.items():
-            value = (value or "").strip()
-            if column == "bypassed":
-                if value.lower() not in YES | NO:
-                    raise _refuse(
-                        f"Row {row_number}, column bypassed: say yes or no.",
-                        field=f"row {row_number}.bypassed",
-                    )
-                data[COLUMNS[column]] = value.lower() in YES
-            elif value != "":
-                data[COLUMNS[column]] = value
-        serializer = ReadingSerializer(data=data)
-        if not serializer.is_valid():
-            field, messages = next(iter(serializer.errors.items()))
+        bypassed = (row.get("bypassed") or "").strip().lower()
+        if bypassed not in YES | NO:
+            raise _refuse(
+                f"Row {row_number}, column bypassed: say yes or no.",
+                field=f"row {row_number}.bypassed",
+            )
+        reading, field, message = cells.validate(row)
+        if field is not None:
             column = next((c for c, f in COLUMNS.items() if f == field), field)
             raise _refuse(
-                f"Row {row_number}, column {column}: {messages[0]}",
+                f"Row {row_number}, column {column}: {message}",
                 field=f"row {row_number}.{column}",
             )
-        readings.append(dict(serializer.validated_data))
+        reading["lamp_bypassed"] = bypassed in YES
+        readings.append(reading)
     if not readings:
         raise _refuse("The file has a header but no readings.")
     return readings
+
+
+class _CellRules:
+    """A row's cells checked by the fields of one `ReadingSerializer`, built once per file.
+
+    A number inside its field's limits, or a listed choice, is taken as the field would take
+    it; anything else (and an empty required cell) goes through the field's own validation,
+    so every refusal carries the serializer's message. The rows are checked in the
+    serializer's field order, so the first refusal named is the one it would name.
+    """
+
+    def __init__(self, present: list[str]):
+        fields = ReadingSerializer().fields
+        self.fields = [
+            field
+            for name, field in fields.items()
+            if not field.read_only and name in set(COLUMNS.values()) and name != "lamp_bypassed"
+        ]
+        self.present = {field.field_name: field.field_name in present for field in self.fields}
+        self.quick = {}
+        # What an empty cell gives: the field's default, nothing, or its refusal (same each row).
+        self.when_empty = {}
+        for field in self.fields:
+            try:
+                self.when_empty[field.field_name] = (field.run_validation(empty), None)
+            except SkipField:
+                self.when_empty[field.field_name] = (_UNSURE, None)
+            except serializers.ValidationError as exc:
+                self.when_empty[field.field_name] = (_UNSURE, exc.detail[0])
+        for field in self.fields:
+            if isinstance(field, serializers.ChoiceField):
+                self.quick[field.field_name] = self._choice(field)
+            elif isinstance(field, serializers.FloatField) and all(
+                isinstance(rule, MinValueValidator | MaxValueValidator) for rule in field.validators
+            ):
+                self.quick[field.field_name] = self._number(field)
+
+    @staticmethod
+    def _choice(field):
+        values = field.choice_strings_to_values
+        return lambda text: values.get(text, _UNSURE)
+
+    @staticmethod
+    def _number(field):
+        low = -math.inf if field.min_value is None else field.min_value
+        high = math.inf if field.max_value is None else field.max_value
+        longest = field.MAX_STRING_LENGTH
+
+        def number(text):
+            if len(text) > longest:
+                return _UNSURE
+            try:
+                value = float(text)
+            except ValueError:
+                return _UNSURE
+            return value if math.isfinite(value) and low <= value <= high else _UNSURE
+
+        return number
+
+    def validate(self, row: dict) -> tuple[dict, str | None, str | None]:
+        """The row's reading, or the first field refused and the serializer's message."""
+        reading = {}
+        for field in self.fields:
+            name = field.field_name
+            text = (row.get(_COLUMN_OF[name]) or "").strip() if self.present[name] else ""
+            if not text:
+                value, refusal = self.when_empty[name]
+                if refusal is not None:
+                    return reading, name, refusal
+                if value is not _UNSURE:
+                    reading[name] = value
+                continue
+            quick = self.quick.get(name)
+            value = quick(text) if quick else _UNSURE
+            if value is _UNSURE:
+                try:
+                    value = field.run_validation(text)
+                except serializers.ValidationError as exc:
+                    return reading, name, exc.detail[0]
+            reading[name] = value
+        return reading, None, None
+
+
+_UNSURE = object()
+_COLUMN_OF = {field: column for column, field in COLUMNS.items()}
