@@ -2,16 +2,21 @@
 
 from __future__ import annotations
 
+import hashlib
+import json
 from dataclasses import asdict
 
 import numpy as np
+from django.core.cache import cache
 from django.db.models import Prefetch, QuerySet
 from django.utils import timezone
 
 from shop.core.errors import ApplicationError
 from shop.core.safety import caveats
 from shop.intake.models import Unit
+from shop.physics import PHYSICS_VERSION
 from shop.physics.advice import advise_lamp
+from shop.physics.materials import data_fingerprint
 
 from . import judging, prediction, switch_on
 from .declared_load import physics_load, unit_model_document
@@ -32,6 +37,7 @@ from .services import SOURCE_HEADROOM
 
 METER_FIELDS = ("source_meter", "load_meter", "current_meter")
 PLOT_POINTS = 61
+PLOT_CACHE_SECONDS = 24 * 3600
 
 
 def calibration_state(instrument: Instrument) -> dict:
@@ -121,11 +127,44 @@ def healthy_switch_on(inputs: dict) -> dict:
     )
 
 
+def _plot_key(test: PowerUpTest, inputs: dict) -> str:
+    """A cache key naming everything the plot is drawn from.
+
+    The judgement's inputs (limiter, declared load, rig, meters and every reading), the
+    stored verdict if the test is closed, the rig's full source, the title's job number and
+    the physics version and data: any edit that could change the picture changes the key.
+    """
+    drawn_from = {
+        "inputs": inputs,
+        "verdict": test.verdict.pk if hasattr(test, "verdict") else None,
+        "full_source": test.rig.full_source_voltage,
+        "test": test.pk,
+        "job": test.job.number,
+        "physics": [PHYSICS_VERSION, data_fingerprint()],
+        "points": PLOT_POINTS,
+    }
+    text = json.dumps(drawn_from, sort_keys=True, default=str, separators=(",", ":"))
+    return "powerup-plot:" + hashlib.sha256(text.encode()).hexdigest()
+
+
 def powerup_plot(test: PowerUpTest) -> str:
     """The test's SVG plot: the healthy band over a sweep and each reading by its status,
-    and under it a healthy unit's switch-on (or a line saying why it is left out)."""
+    and under it a healthy unit's switch-on (or a line saying why it is left out).
+
+    Drawn once per set of inputs and kept in the cache: an open test of 10,000 readings
+    would otherwise be judged again on every request.
+    """
     readings = list(reading_list(test=test))
     inputs = judging.verdict_inputs(test, readings)
+    key = _plot_key(test, inputs)
+    drawn = cache.get(key)
+    if drawn is None:
+        drawn = _draw_plot(test, readings, inputs)
+        cache.set(key, drawn, PLOT_CACHE_SECONDS)
+    return drawn
+
+
+def _draw_plot(test: PowerUpTest, readings: list[Reading], inputs: dict) -> str:
     if hasattr(test, "verdict"):
         statuses = [entry["status"] for entry in test.verdict.per_reading]
     elif readings:
