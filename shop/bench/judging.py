@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import asdict
+from dataclasses import fields
 
 from shop.physics import PHYSICS_VERSION, judgement
 from shop.physics.materials import data_fingerprint
@@ -88,8 +88,10 @@ def _finite(value):
 def verdict_document(verdict: judgement.Verdict) -> dict:
     """The physics verdict as JSON: outcome, reasons and each reading's judgement."""
     per_reading = []
+    # Every field is a plain number, word or flag: read them, no deep copy (asdict).
+    names = [field.name for field in fields(judgement.ReadingJudgement)]
     for item in verdict.readings:
-        entry = {key: _finite(value) for key, value in asdict(item).items()}
+        entry = {name: _finite(getattr(item, name)) for name in names}
         entry["draw_unbounded"] = math.isinf(item.inferred_draw)
         per_reading.append(entry)
     return {

@@ -107,32 +107,22 @@ class CompositeLoad(ScalableLoad):
                 )
             impedance = 1.0 / admittance
             log_current = np.log(current[1:])
-            # Both splines (log |Z| and its angle) as one array of cubic pieces, evaluated
-            # with numpy: scipy's call costs more than the sum itself on a few points.
+            # log |Z| and its angle as the two columns of one spline: one call per impedance.
             spline = CubicSpline(
                 log_current,
                 np.column_stack(
                     [np.log(np.abs(impedance[1:])), np.unwrap(np.angle(impedance[1:]))]
                 ),
             )
-            self._tables[frequency] = (impedance[0], log_current, np.exp(log_current[0]), spline.c)
+            self._tables[frequency] = (impedance[0], log_current, np.exp(log_current[0]), spline)
         return self._tables[frequency]
 
     def _impedance_of_one(self, current, frequency):
         current = np.asarray(current, dtype=float)
-        at_zero, log_current, smallest, pieces = self._table(frequency)
+        at_zero, log_current, smallest, spline = self._table(frequency)
         with np.errstate(divide="ignore"):
             where = np.clip(np.log(current), log_current[0], log_current[-1])
-        piece = np.clip(
-            np.searchsorted(log_current, where, side="right") - 1, 0, len(pieces[0]) - 1
-        )
-        offset = (where - log_current[piece])[..., None]
-        # The cubic on its piece, c3 + c2 dx + c1 dx^2 + c0 dx^3, summed as scipy's PPoly does.
-        coefficients = pieces[:, piece]
-        value = coefficients[3] + coefficients[2] * offset
-        power = offset * offset
-        value = value + coefficients[1] * power
-        value = value + coefficients[0] * (power * offset)
+        value = spline(where)
         impedance = np.exp(value[..., 0] + 1j * value[..., 1])
         return np.where(current < smallest, at_zero, impedance)
 
