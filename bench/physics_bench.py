@@ -1,10 +1,16 @@
 """Physics benchmark: the vectorised solver, judgement and advice against scalar references.
 
-Run with ``python bench/physics_bench.py`` (``make bench``). Every figure is printed beside
+Run with ``python bench/physics_bench.py`` (``make bench``; ``--quick``: fewer repeats, and
+one reference run). Every figure is printed beside
 its baseline measured in the same run, and the ratio. The baseline is a per-point scalar
 reference written here: scipy ``brentq`` for the filament temperature inside ``brentq`` for
 the circuit (and, for the judgement, inside ``brentq`` for the draw). Exits non-zero when the
 vectorised results disagree with the reference beyond the stated limits.
+
+Beside the scalar references, the judgement is also timed against its floor: one flat
+``solve_series`` of the points it solves first (each reading at the declared draw, its double
+and the search grid of draws, three times for the meters' limits), and against the same
+judgement of a unit declared by its nameplate (a composite load).
 """
 
 import statistics
@@ -18,6 +24,7 @@ from scipy.optimize import brentq
 from shop.physics import Lamp, LampBank, Reading, ResistiveLoad, advise_lamp, judge, solve_series
 from shop.physics import judgement as rules
 from shop.physics.materials import TABLE_MAX_TEMPERATURE
+from shop.physics.nameplate import unit_load_from_nameplate
 
 SWEEP_POINTS = 1000
 SWEEP_AGREEMENT = 1e-6  # [V] issue 3: the sweep agrees with the scalar reference to 1e-6 V
@@ -110,7 +117,7 @@ def bench_sweep():
         ),
         1,
     )
-    show("time per sweep (vectorised, median of 21)", fast, slow)
+    show(f"time per sweep (vectorised, median of {VECTORISED_REPEATS})", fast, slow)
     ok = check(
         "max |load volts - reference|",
         float(np.max(np.abs(result.load_voltage - expected[:, 0]))),
@@ -192,7 +199,30 @@ def bench_judge():
     slow, expected = timed(
         lambda: reference_judge_figures(lamp, declared, readings), REFERENCE_REPEATS
     )
-    show("time per judgement (median of 21 / of 3)", fast, slow)
+    show(
+        f"time per judgement (median of {VECTORISED_REPEATS} / of {REFERENCE_REPEATS})", fast, slow
+    )
+    draws = np.concatenate([[1.0, 2.0], np.geomspace(*rules.DRAW_SEARCH_RANGE, 13)])
+    sources = np.tile(steps, 3)
+    floor, _ = timed(
+        lambda: solve_series(lamp, declared.scaled(draws[:, None]), sources, WINDINGS),
+        VECTORISED_REPEATS,
+    )
+    print(
+        f"  {'judge beside one flat solve_series (floor)':<44}{fast * 1e3:10.2f} ms   "
+        f"floor {floor * 1e3:14.2f} ms   ratio {fast / floor:8.2f}x   (aim: within 1.5x)"
+    )
+    nameplate = unit_load_from_nameplate(rated_voltage=120.0, rated_power=30.0, category="radio")
+    composite, _ = timed(
+        lambda: judge(
+            lamp, nameplate, readings, nominal_source_voltage=NOMINAL, source_resistance=WINDINGS
+        ),
+        VECTORISED_REPEATS,
+    )
+    print(
+        f"  {'judge, nameplate (composite) beside resistive':<44}{composite * 1e3:10.2f} ms   "
+        f"resistive {fast * 1e3:10.2f} ms   ratio {composite / fast:8.2f}x   (aim: within 1.3x)"
+    )
     got = np.array(
         [
             (
@@ -252,6 +282,7 @@ def bench_advice():
     run()
     fast, advice = timed(run, VECTORISED_REPEATS)
     slow, expected = timed(reference, REFERENCE_REPEATS)
+    print(f"  (aim: more than 20x the scalar reference; measured {slow / fast:.0f}x)")
     # The reference covers 7 of the 8 candidates; scale its time to 8 for the ratio.
     show("time per advice (median of 21 / of 3)", fast, slow * 8 / 7)
     by_index = sorted(advice, key=lambda entry: entry.index)[:-1]
@@ -268,7 +299,10 @@ def bench_advice():
     return ok
 
 
-def main():
+def main(argv=None):
+    global VECTORISED_REPEATS, REFERENCE_REPEATS
+    if "--quick" in (sys.argv[1:] if argv is None else argv):
+        VECTORISED_REPEATS, REFERENCE_REPEATS = 5, 1
     print(
         f"shop.physics benchmark (numpy {np.__version__}, scipy {scipy.__version__}); "
         "times are wall-clock on this machine"

@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import json
 from dataclasses import asdict
+from types import SimpleNamespace
 
 import numpy as np
 from django.core.cache import cache
@@ -154,7 +155,10 @@ def powerup_plot(test: PowerUpTest) -> str:
     Drawn once per set of inputs and kept in the cache: an open test of 10,000 readings
     would otherwise be judged again on every request.
     """
-    readings = list(reading_list(test=test))
+    # The judged fields only, as plain rows: no model instance per reading.
+    readings = [
+        SimpleNamespace(**row) for row in reading_list(test=test).values(*judging.READING_FIELDS)
+    ]
     inputs = judging.verdict_inputs(test, readings)
     key = _plot_key(test, inputs)
     drawn = cache.get(key)
@@ -164,7 +168,7 @@ def powerup_plot(test: PowerUpTest) -> str:
     return drawn
 
 
-def _draw_plot(test: PowerUpTest, readings: list[Reading], inputs: dict) -> str:
+def _draw_plot(test: PowerUpTest, readings: list[SimpleNamespace], inputs: dict) -> str:
     if hasattr(test, "verdict"):
         statuses = [entry["status"] for entry in test.verdict.per_reading]
     elif readings:
