@@ -20,7 +20,7 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from shop.physics import ConstantPowerLoad, Lamp, judge, solve_series  # noqa: E402
+from shop.physics import ConstantPowerLoad, Lamp, ResistiveLoad, judge, solve_series  # noqa: E402
 from shop.physics import scenarios as reference  # noqa: E402
 from shop.physics.judgement import lamp_with_spread  # noqa: E402
 from shop.physics.switch_mode_start import switch_mode_switch_on  # noqa: E402
@@ -84,6 +84,28 @@ def main(argv=None):
             f"  {label:<34}{ours * 1e3:9.1f} ms   baseline {baseline * 1e3:8.1f} ms   "
             f"x{ours / baseline:6.0f}"
         )
+    # The judgement of a full test beside a resistive unit of the same rating, same readings.
+    many = reference.readings(
+        reference.random_perturbed_lamp(lamp, rng),
+        peaky,
+        np.linspace(20.0, 120.0, 25),
+        rng,
+        source_resistance=RIG,
+        with_current=True,
+    )
+    resistive = ResistiveLoad.from_rating(100.0, 20.0)
+
+    def judged(load):
+        return judge(lamp, load, many, nominal_source_voltage=120.0, source_resistance=RIG)
+
+    judged(peaky)
+    judged(resistive)
+    ours = median_time(lambda: judged(peaky), repeats)
+    baseline = median_time(lambda: judged(resistive), repeats)
+    print(
+        f"  {'judge, 25 readings':<34}{ours * 1e3:9.1f} ms   resistive {baseline * 1e3:7.1f} ms   "
+        f"x{ours / baseline:6.1f}   (aim: < 10x the resistive judge)"
+    )
     sources = np.array([105.0, 110.0, 115.0, 120.0])
     steady = solve_series(lamp, peaky, sources, RIG, FREQUENCY)
     run = switch_mode_switch_on(

@@ -3,16 +3,20 @@
 Run with ``python bench/load_bench.py`` (``make bench``); ``--quick`` seeds a smaller shop and
 drives it for shorter runs. Each database gets a database of its own, created and dropped here
 (SQLite in a temporary file; PostgreSQL as a new database on ``BENCH_POSTGRES_URL``, by default
-``postgres://postgres@127.0.0.1:5432``), and goes through:
+``postgres://postgres@127.0.0.1:5432``, named ``BENCH_DATABASE_NAME`` if set), and goes
+through:
 
 1. ``manage.py migrate`` and ``manage.py seed_large`` (10,000 jobs, 200,000 readings over closed
    tests, 2,000 certificates);
 2. in-process, through the Django test client with token authentication: job detail and the job
    list (50 a page, filtered by state) median and 95th percentile, and the queries each request
-   costs over different jobs and pages, beside a bare Django view through the same middleware;
+   costs over different jobs and pages, beside a bare Django view through the same middleware,
+   and beside plain DRF peers of the same reads (``bench/load_urls.py``: the same joins and
+   serializer, DRF's token authentication), the unfiltered list too;
 3. served: gunicorn with 2 sync workers on 127.0.0.1 (a free port), driven by ``wrk`` (the
-   Debian package) for 60 s over 50 connections, three runs: the bare view, job-detail reads,
-   and a mix of reads and writes (MIX); requests per second, latency percentiles, errors.
+   Debian package) for 60 s over 50 connections, four runs: the bare view, job-detail reads,
+   the peer's detail reads, and a mix of reads and writes (MIX); requests per second, latency
+   percentiles, errors.
 
 The settings are production's (``shop.settings.bench``, plain HTTP on loopback) with
 persistent database connections (DATABASE_CONN_MAX_AGE). Figures print side by side per
@@ -47,6 +51,7 @@ POSTGRES_SERVER = os.environ.get("BENCH_POSTGRES_URL", "postgres://postgres@127.
 DATABASES = ("sqlite", "postgresql")
 SETTINGS = "shop.settings.bench"
 BARE_URL = "/bench/bare/"
+PEER_JOBS = "/bench/peer/jobs/"
 PAGE_SIZE = 50
 LIST_FILTER = "state=returned&ordering=-received_on"
 WORKERS = 2
@@ -118,6 +123,9 @@ function request()
     return wrk.format("GET", "%(bare)s")
   end
   local roll = math.random()
+  if mode == "peer_detail" then
+    return wrk.format("GET", "%(peer_jobs)s" .. pick(jobs) .. "/", headers)
+  end
   if mode == "detail" or roll < shares[1] then
     return wrk.format("GET", "/api/jobs/" .. pick(jobs) .. "/", headers)
   elseif roll < shares[2] then
@@ -199,6 +207,21 @@ def measure_in_process(out: Path, samples: int) -> None:
     def list_url() -> str:
         return f"/api/jobs/?{LIST_FILTER}&page={rng.randint(1, pages)}"
 
+    all_pages = len(job_ids) // PAGE_SIZE
+    state = LIST_FILTER.split("&")[0]
+
+    def peer_list_url() -> str:
+        return f"{PEER_JOBS}?{state}&page={rng.randint(1, pages)}"
+
+    def unfiltered_url() -> str:
+        return f"/api/jobs/?page={rng.randint(1, all_pages)}"
+
+    def peer_unfiltered_url() -> str:
+        return f"{PEER_JOBS}?page={rng.randint(1, all_pages)}"
+
+    def peer_detail_url() -> str:
+        return f"{PEER_JOBS}{rng.choice(job_ids)}/"
+
     def fetch(url: str, rows: int | None = None) -> None:
         response = client.get(url)
         assert response.status_code == 200, (url, response.status_code, response.content[:300])
@@ -228,6 +251,22 @@ def measure_in_process(out: Path, samples: int) -> None:
         "bare": {**percentiles(timed(lambda: BARE_URL)), "queries": queries(lambda: BARE_URL)},
         "detail": {**percentiles(timed(detail_url)), "queries": queries(detail_url)},
         "list": {**percentiles(timed(list_url, PAGE_SIZE)), "queries": queries(list_url)},
+        "peer_detail": {
+            **percentiles(timed(peer_detail_url)),
+            "queries": queries(peer_detail_url),
+        },
+        "peer_list": {
+            **percentiles(timed(peer_list_url, PAGE_SIZE)),
+            "queries": queries(peer_list_url),
+        },
+        "unfiltered": {
+            **percentiles(timed(unfiltered_url, PAGE_SIZE)),
+            "queries": queries(unfiltered_url),
+        },
+        "peer_unfiltered": {
+            **percentiles(timed(peer_unfiltered_url, PAGE_SIZE)),
+            "queries": queries(peer_unfiltered_url),
+        },
     }
 
     # The wrk run's writes: repair steps on jobs still at the bench, readings on open tests.
@@ -407,6 +446,7 @@ def wrk(port: int, mode: str, data: dict, seconds: int, folder: Path) -> dict:
             "step_body": json.dumps({"job": 0, **STEP_BODY}).replace('"job": 0', '"job": %d'),
             "reading_body": json.dumps(READING_BODY),
             "bare": BARE_URL,
+            "peer_jobs": PEER_JOBS,
             "list_filter": LIST_FILTER,
         }
     )
@@ -441,7 +481,8 @@ def wrk(port: int, mode: str, data: dict, seconds: int, folder: Path) -> dict:
 
 def bench_database(kind: str, sizes: Sizes) -> dict:
     python = str(BIN / "python")
-    with database(kind, f"bench_load_{os.getpid()}") as (url, folder):
+    name = os.environ.get("BENCH_DATABASE_NAME", f"bench_load_{os.getpid()}")
+    with database(kind, name) as (url, folder):
         env = child_env(url, folder)
         figures = {}
         print(f"  {kind}: migrate and seed_large (every 10th progress line)", flush=True)
@@ -453,7 +494,7 @@ def bench_database(kind: str, sizes: Sizes) -> dict:
         figures["in_process"] = measured["in_process"]
         figures["served"] = {}
         with gunicorn(env, folder) as port:
-            for mode in ("bare", "detail", "mix"):
+            for mode in ("bare", "detail", "peer_detail", "mix"):
                 print(f"  {kind}: served, {mode}, {sizes.seconds} s", flush=True)
                 figures["served"][mode] = wrk(port, mode, measured["wrk"], sizes.seconds, folder)
         return figures
@@ -516,6 +557,18 @@ def print_table(results: dict, sizes: Sizes, label: str) -> None:
         f"  job list, 50 a page (aim < {AIM_LIST_MS:g})",
         lambda r: in_process_cell(r["in_process"]["list"], r["in_process"]["bare"]),
     )
+    print("Beside plain DRF peers (same joins and serializer, DRF token auth): ratio to the peer")
+    for name, ours, peer, aim in (
+        ("  job detail", "detail", "peer_detail", "aim <= 1.0x"),
+        ("  job list, state filter", "list", "peer_list", "aim < 1.3x"),
+        ("  job list, unfiltered", "unfiltered", "peer_unfiltered", "aim < 1.3x"),
+    ):
+        row(
+            f"{name} ({aim})",
+            lambda r, ours=ours, peer=peer: in_process_cell(
+                r["in_process"][ours], r["in_process"][peer]
+            ),
+        )
     print(
         f"Served: gunicorn {WORKERS} sync workers, wrk {WRK_THREADS} thread {CONNECTIONS} "
         f"connections {sizes.seconds} s: requests/s and ratio to bare, latency p50/p90/p99, "
@@ -528,6 +581,14 @@ def print_table(results: dict, sizes: Sizes, label: str) -> None:
     row(
         f"  job detail reads (aim >= {AIM_DETAIL_RPS:g}/s)",
         lambda r: served_cell(r["served"]["detail"], r["served"]["bare"]),
+    )
+    row(
+        "  peer DRF detail reads",
+        lambda r: served_cell(r["served"]["peer_detail"], r["served"]["bare"]),
+    )
+    row(
+        "  job detail / peer (aim >= 1.0x)",
+        lambda r: f"{r['served']['detail']['rps'] / r['served']['peer_detail']['rps']:.2f}x",
     )
     row("  mix of reads and writes", lambda r: served_cell(r["served"]["mix"], r["served"]["bare"]))
     row(

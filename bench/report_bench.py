@@ -1,6 +1,7 @@
 """Report benchmark: rendering a certificate PDF with 25 readings, once and 100 in a row.
 
-Run with ``python bench/report_bench.py`` (``make bench``). Each figure is printed beside a
+Run with ``python bench/report_bench.py`` (``make bench``; ``--quick``: fewer repeats). Each
+figure is printed beside a
 baseline measured in the same run: a plain one-page reportlab document in the same fonts
 (a title and twenty paragraphs, invariant mode, no tables, drawings or page count). The plot's
 share is the median time to build the plot and draw it on a scratch canvas, over the median
@@ -24,7 +25,7 @@ from reportlab.pdfgen.canvas import Canvas  # noqa: E402
 from reportlab.platypus import Paragraph, SimpleDocTemplate  # noqa: E402
 
 from reports.pdf import render_certificate  # noqa: E402
-from reports.pdf.certificate import PLOT_HEIGHT  # noqa: E402
+from reports.pdf.certificate import PLOT_HEIGHT, QR_SIZE, qr_code  # noqa: E402
 from reports.pdf.layout import content_width  # noqa: E402
 from reports.pdf.plot import readings_plot  # noqa: E402
 from reports.pdf.styles import MARGIN, STYLES  # noqa: E402
@@ -80,9 +81,9 @@ def plot_alone(test: dict, width: float) -> None:
     renderPDF.draw(readings_plot(test, width, PLOT_HEIGHT), canvas, 0, 0)
 
 
-def timed(call, repeats: int = REPEATS) -> list[float]:
+def timed(call, repeats: int | None = None) -> list[float]:
     samples = []
-    for _ in range(repeats):
+    for _ in range(REPEATS if repeats is None else repeats):
         start = time.perf_counter()
         call()
         samples.append((time.perf_counter() - start) * 1000)
@@ -94,7 +95,15 @@ def percentiles(samples: list[float]) -> tuple[float, float]:
     return statistics.median(ordered), ordered[round(0.95 * (len(ordered) - 1))]
 
 
-def main() -> int:
+def qr_alone(url: str) -> None:
+    canvas = Canvas(io.BytesIO())
+    renderPDF.draw(qr_code(url, QR_SIZE), canvas, 0, 0)
+
+
+def main(argv=None) -> int:
+    global REPEATS, IN_A_ROW
+    if "--quick" in (sys.argv[1:] if argv is None else argv):
+        REPEATS, IN_A_ROW = 7, 10
     snapshot = snapshot_with_readings(READINGS)
     width = content_width(snapshot["paper_size"])
     first = render_certificate(snapshot)
@@ -106,6 +115,8 @@ def main() -> int:
     baseline_median, baseline_p95 = percentiles(timed(plain_document))
     one_median, one_p95 = percentiles(timed(lambda: render_certificate(snapshot)))
     plot_median, _ = percentiles(timed(lambda: plot_alone(snapshot["tests"][0], width)))
+    url = snapshot["certificate"]["verification_url"]
+    qr_median, _ = percentiles(timed(lambda: qr_alone(url)))
     start = time.perf_counter()
     for _ in range(IN_A_ROW):
         render_certificate(snapshot)
@@ -131,6 +142,12 @@ def main() -> int:
         f"  {'the plot, built and drawn alone':<36} median {plot_median:7.2f} ms  "
         f"{'':16}share of a certificate {plot_median / one_median:5.1%}"
     )
+    print(
+        f"  {'the QR code, built and drawn alone':<36} median {qr_median:7.2f} ms  "
+        f"{'':16}share of a certificate {qr_median / one_median:5.1%}"
+    )
+    ratio = one_median / baseline_median
+    print(f"  (aim: one certificate < 5x the plain page; measured {ratio:.1f}x)")
     return 0
 
 
