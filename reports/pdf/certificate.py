@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import itertools
+
 from reportlab.graphics.barcode.qr import QrCodeWidget
-from reportlab.graphics.shapes import Drawing
+from reportlab.graphics.shapes import Drawing, Path
 from reportlab.lib.units import mm
 from reportlab.platypus import CondPageBreak, KeepTogether, Paragraph, Spacer, Table, TableStyle
 
@@ -438,11 +440,33 @@ def _caveats(snapshot: dict, width: float) -> list:
 
 
 def qr_code(value: str, size: float) -> Drawing:
-    """A QR code of `value`, `size` points square (quiet border included)."""
-    # Sized through barWidth/barHeight rather than scaled to getBounds(), which would encode
-    # the value a second time: encoding is most of the certificate's rendering time.
+    """A QR code of `value`, `size` points square (quiet border included).
+
+    Encoded by reportlab's QR encoder (error correction M), drawn as one path: each run of
+    dark modules in a row is one rectangle of it. reportlab's own widget makes a shape per
+    run, and rendering those shapes cost more than the encoding.
+    """
+    widget = QrCodeWidget(value, barLevel="M")
+    code = widget.qr
+    code.make()
+    border = widget.barBorder
+    box = size / (code.getModuleCount() + 2 * border)
+    path = Path(fillColor=widget.barFillColor, strokeColor=None, strokeWidth=0)
+    for row_number, row in enumerate(code.modules):
+        top = size - (row_number + border) * box
+        column = border
+        for dark, run in itertools.groupby(map(bool, row)):
+            length = len(list(run))
+            if dark:
+                left, right = column * box, (column + length) * box
+                path.moveTo(left, top - box)
+                path.lineTo(right, top - box)
+                path.lineTo(right, top)
+                path.lineTo(left, top)
+                path.closePath()
+            column += length
     drawing = Drawing(size, size)
-    drawing.add(QrCodeWidget(value, barLevel="M", barWidth=size, barHeight=size))
+    drawing.add(path)
     return drawing
 
 
