@@ -478,10 +478,10 @@ def test_a_csv_over_the_row_cap_is_refused_without_reading_on(lead, open_test, s
     content = _csv(ROWS_IN_LARGE_CSV)
     assert len(content) < settings.EVIDENCE_MAX_BYTES  # the row cap refuses it, not the size
     validate = mock.patch.object(
-        csv_import.ReadingSerializer,
-        "is_valid",
+        csv_import._CellRules,
+        "validate",
         autospec=True,
-        side_effect=csv_import.ReadingSerializer.is_valid,
+        side_effect=csv_import._CellRules.validate,
     )
     with nothing_written(), peak_memory(PEAK_FOR_LARGE_CSV), validate as rows_checked:
         response = _import(lead, open_test, content)
