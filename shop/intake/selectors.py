@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from django.db.models import QuerySet
+from django.db.models import OuterRef, QuerySet, Subquery
+
+from shop.bench.models import PowerUpTest, TestStatus
 
 from .models import Customer, Evidence, Job, JobMove, RepairStep, Unit
 
@@ -16,7 +18,16 @@ def unit_list() -> QuerySet[Unit]:
 
 
 def job_list() -> QuerySet[Job]:
-    return Job.objects.select_related("unit", "unit__owner", "assigned_technician")
+    """Jobs with their unit, and the latest closed test and its outcome as two annotations."""
+    latest = PowerUpTest.objects.filter(job=OuterRef("pk"), status=TestStatus.CLOSED).order_by(
+        "-closed_at", "-id"
+    )
+    return Job.objects.select_related(
+        "unit", "unit__owner", "assigned_technician", "ready_override_by"
+    ).annotate(
+        latest_test_id=Subquery(latest.values("pk")[:1]),
+        latest_outcome=Subquery(latest.values("verdict__outcome")[:1]),
+    )
 
 
 def job_moves(*, job: Job) -> QuerySet[JobMove]:
