@@ -13,14 +13,8 @@ from shop.bench.models import PowerUpTest
 from shop.core.models import AuditEvent
 from shop.intake import services as intake
 from shop.intake.models import Unit
-from tests.fixtures_bench import make_lamp
+from tests.fixtures_bench import HEALTHY_60W_READINGS, make_lamp
 
-PASSING = [
-    {"source_voltage": 30.0, "load_voltage": 28.0, "glow_seen": "dark"},
-    {"source_voltage": 60.0, "load_voltage": 54.5, "glow_seen": "dark"},
-    {"source_voltage": 90.0, "load_voltage": 79.0, "glow_seen": "faint"},
-    {"source_voltage": 120.0, "load_voltage": 101.0, "glow_seen": "faint"},
-]
 REASON = "Opened up on the bench: a proper isolating mains transformer, checked by meter."
 
 
@@ -125,7 +119,7 @@ def test_a_test_shows_the_facts_it_was_opened_with_after_the_unit_changes(
     body = client_for("technician").get(f"/api/powerups/{test.pk}/").json()
     assert body["chassis_may_be_live"] is True
     assert body["unit_facts"]["construction"] == "transformerless"
-    bench.readings_add(test=test, readings=PASSING, actor=staff["technician"])
+    bench.readings_add(test=test, readings=HEALTHY_60W_READINGS, actor=staff["technician"])
     verdict = bench.powerup_close(test=test, actor=staff["technician"])
     assert verdict.inputs["unit_facts"]["construction"] == "transformerless"
 
@@ -160,7 +154,7 @@ def test_the_walk_around_the_isolation_rule_no_longer_works(
     )
     assert opened.status_code == 201, opened.content
     test = PowerUpTest.objects.get(pk=opened.json()["id"])
-    bench.readings_add(test=test, readings=PASSING, actor=staff["technician"])
+    bench.readings_add(test=test, readings=HEALTHY_60W_READINGS, actor=staff["technician"])
     bench.powerup_close(test=test, actor=staff["technician"])
     # A lead later restates the construction (with a reason); the certificate still says
     # what the unit was tested as, warns of the live chassis and notes the change.
@@ -224,7 +218,9 @@ def test_a_lead_cannot_name_someone_off_the_bench_to_take_readings(
 def test_adding_readings_changes_the_tests_etag(open_test, client_for, staff):
     client = client_for("technician")
     before = client.get(f"/api/powerups/{open_test.pk}/")["ETag"]
-    added = client.post(f"/api/powerups/{open_test.pk}/readings/", PASSING[0], format="json")
+    added = client.post(
+        f"/api/powerups/{open_test.pk}/readings/", HEALTHY_60W_READINGS[0], format="json"
+    )
     assert added.status_code == 201
     after = client.get(f"/api/powerups/{open_test.pk}/")["ETag"]
     assert after != before

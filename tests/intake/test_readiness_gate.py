@@ -11,13 +11,8 @@ from reports.selectors import snapshot_of
 from shop.bench import services as bench
 from shop.intake import services as intake
 from shop.intake.models import JobState
+from tests.fixtures_bench import HEALTHY_60W_READINGS
 
-PASSING = [
-    {"source_voltage": 30.0, "load_voltage": 28.0, "glow_seen": "dark"},
-    {"source_voltage": 60.0, "load_voltage": 54.5, "glow_seen": "dark"},
-    {"source_voltage": 90.0, "load_voltage": 79.0, "glow_seen": "faint"},
-    {"source_voltage": 120.0, "load_voltage": 101.0, "glow_seen": "faint"},
-]
 # A shorted unit: the lamp takes nearly all the source and glows bright.
 SHORTED = [
     {"source_voltage": 60.0, "load_voltage": 4.0, "glow_seen": "medium"},
@@ -57,13 +52,13 @@ def test_a_job_whose_only_test_failed_is_refused_ready(testing_job, rig, lamps, 
 
 
 def test_a_later_failed_test_outweighs_an_earlier_pass(testing_job, rig, lamps, staff, client_for):
-    assert judged(testing_job, rig, lamps[60], staff, PASSING).outcome == "pass"
+    assert judged(testing_job, rig, lamps[60], staff, HEALTHY_60W_READINGS).outcome == "pass"
     assert judged(testing_job, rig, lamps[60], staff, SHORTED).outcome == "fail"
     assert move_to_ready(client_for("lead"), testing_job).status_code == 409
 
 
 def test_an_open_test_holds_the_job_back(testing_job, rig, lamps, staff, client_for):
-    judged(testing_job, rig, lamps[60], staff, PASSING)
+    judged(testing_job, rig, lamps[60], staff, HEALTHY_60W_READINGS)
     bench.powerup_open(job=testing_job, rig=rig, lamp=lamps[60], technician=staff["technician"])
     response = move_to_ready(client_for("lead"), testing_job)
     assert response.status_code == 409
@@ -72,7 +67,7 @@ def test_an_open_test_holds_the_job_back(testing_job, rig, lamps, staff, client_
 
 def test_a_passed_latest_test_lets_the_job_be_ready(testing_job, rig, lamps, staff, client_for):
     judged(testing_job, rig, lamps[60], staff, SHORTED)
-    verdict = judged(testing_job, rig, lamps[60], staff, PASSING)
+    verdict = judged(testing_job, rig, lamps[60], staff, HEALTHY_60W_READINGS)
     response = move_to_ready(client_for("technician"), testing_job)
     assert response.status_code == 200, response.content
     body = response.json()
@@ -103,7 +98,7 @@ def test_a_leads_override_is_kept_on_the_job_and_printed(
 
 def test_a_ready_job_takes_no_new_test(testing_job, rig, lamps, staff):
     """Otherwise a failed test could be added after the gate let the job through."""
-    judged(testing_job, rig, lamps[60], staff, PASSING)
+    judged(testing_job, rig, lamps[60], staff, HEALTHY_60W_READINGS)
     job = intake.job_transition(job=testing_job, to_state=JobState.READY, actor=staff["lead"])
     with pytest.raises(Exception) as caught:
         bench.powerup_open(job=job, rig=rig, lamp=lamps[60], technician=staff["technician"])
@@ -129,7 +124,7 @@ def test_job_and_test_lists_cost_the_same_queries_for_more_rows(
     testing_job, unit, rig, lamps, staff, client_for
 ):
     client = client_for("lead")
-    judged(testing_job, rig, lamps[60], staff, PASSING)
+    judged(testing_job, rig, lamps[60], staff, HEALTHY_60W_READINGS)
     few = (_list_queries(client, "/api/jobs/"), _list_queries(client, "/api/powerups/"))
     for _ in range(3):
         job = intake.job_create(actor=staff["front_desk"], unit=unit, complaint="Again")
