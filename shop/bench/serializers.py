@@ -264,6 +264,7 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
             "updated_at",
         ]
 
+    @extend_schema_field(serializers.BooleanField(allow_null=True))
     def get_chassis_may_be_live(self, test: PowerUpTest) -> bool | None:
         return test.unit_facts.get("chassis_may_be_live")
 

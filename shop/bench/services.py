@@ -370,7 +370,7 @@ def rig_facts(rig: Rig) -> dict:
     }
 
 
-def _require_lead_override(actor, reason: str, field: str) -> None:
+def _require_lead_override(actor, field: str) -> None:
     if not has_role(actor, LEAD):
         raise Forbidden(f"Only a lead may override this rule ({field}).", field=field)
 
@@ -387,7 +387,7 @@ def _isolation_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
             field="rig",
             code="isolation_required",
         )
-    _require_lead_override(actor, reason, "live_chassis_override")
+    _require_lead_override(actor, "live_chassis_override")
     return True
 
 
@@ -400,15 +400,15 @@ def _voltage_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
         return False
     if not reason.strip():
         raise Conflict(
-            f"Rig {rig_facts['name']} gives {mains:g} V nominal, outside the unit's rated "
-            f"{low:g}-{high:g} V (from its {basis}). Use a rig of the unit's mains voltage, "
-            "set the unit's voltage selector to match (a lead records that on the unit), or a "
-            "lead may override with a stated reason (voltage_override).",
+            f"Rig {rig_facts['name']} gives {float(mains):g} V nominal, outside the unit's "
+            f"rated {float(low):g}-{float(high):g} V (from its {basis}). Use a rig of the "
+            "unit's mains voltage, set the unit's voltage selector to match (a lead records "
+            "that on the unit), or a lead may override with a stated reason (voltage_override).",
             field="rig",
             code="voltage_mismatch",
             extra={"rated_range": [float(low), float(high)], "rig_voltage": float(mains)},
         )
-    _require_lead_override(actor, reason, "voltage_override")
+    _require_lead_override(actor, "voltage_override")
     return True
 
 

@@ -63,6 +63,8 @@ JOB_FIELDS = (
     "approved_at",
 )
 HASH_CHUNK = 1 << 20
+# A declined job goes back unrepaired: no power-up test stands behind its "ready".
+UNREPAIRED_STATES = frozenset({JobState.DECLINED})
 
 
 @transaction.atomic
@@ -220,9 +222,9 @@ def job_transition(
     """Move a job to `to_state` under a row lock, and record who moved it, when and why.
 
     Moving from awaiting_approval to repairing needs the customer's approval: pass
-    `approved_by` (who approved) unless the job already records it. Moving from testing to
-    ready needs the latest closed power-up test to have passed, or a lead's stated reason
-    (`ready_override`), kept on the job.
+    `approved_by` (who approved) unless the job already records it. Moving to ready (but
+    from declined) needs the latest closed power-up test to have passed, or a lead's stated
+    reason (`ready_override`), kept on the job.
     """
     locked = Job.objects.select_for_update().get(pk=job.pk)
     check_version(locked, expected_version)
@@ -259,7 +261,7 @@ def job_transition(
                 field="approved_by",
                 code="approval_required",
             )
-    if locked.state == JobState.TESTING and to_state == JobState.READY:
+    if to_state == JobState.READY and locked.state not in UNREPAIRED_STATES:
         changes.update(_readiness(locked, actor, ready_override))
     JobMove.objects.create(
         job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note

@@ -228,3 +228,17 @@ def test_adding_readings_changes_the_tests_etag(open_test, client_for, staff):
         f"/api/powerups/{open_test.pk}/", {"notes": "late"}, format="json", HTTP_IF_MATCH=before
     )
     assert stale.status_code == 412
+
+
+def test_a_rig_edit_after_open_does_not_rewrite_the_isolation_the_test_had(
+    hot_job, rig, lamps, staff
+):
+    test = bench.powerup_open(job=hot_job, rig=rig, lamp=lamps[60], technician=staff["technician"])
+    bench.readings_add(test=test, readings=HEALTHY_60W_READINGS, actor=staff["technician"])
+    bench.powerup_close(test=test, actor=staff["technician"])
+    bench.rig_update(
+        rig=rig, expected_version=None, actor=staff["lead"], isolation_transformer=False
+    )
+    snapshot = snapshot_of(reports.certificate_issue(job=hot_job, issued_by=staff["lead"]))
+    assert snapshot["tests"][0]["rig"]["isolation"].startswith("Isolation transformer")
+    assert snapshot["live_chassis_note"]
