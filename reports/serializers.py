@@ -76,19 +76,26 @@ class CertificateSerializer(serializers.ModelSerializer):
         return snapshot_of(certificate)
 
 
+def optional_reason(help_text: str) -> serializers.CharField:
+    """A stated reason a request may carry (blank when none is needed)."""
+    return serializers.CharField(
+        required=False, allow_blank=True, default="", max_length=2000, help_text=help_text
+    )
+
+
 class IssueSerializer(serializers.Serializer):
-    """Issue a certificate for a job: its closed tests (all unless named)."""
+    """Issue a certificate for a job: its closed tests (all unless named). A job's valid
+    certificate is superseded by the new one."""
 
     job = serializers.PrimaryKeyRelatedField(queryset=Job.objects.all())
     tests = serializers.PrimaryKeyRelatedField(
         queryset=PowerUpTest.objects.all(), many=True, required=False
     )
-    calibration_override = serializers.CharField(
-        required=False,
-        allow_blank=True,
-        default="",
-        max_length=2000,
-        help_text="Why an out-of-calibration meter is acceptable here (printed).",
+    calibration_override = optional_reason(
+        "Why an out-of-calibration meter is acceptable here (printed)."
+    )
+    left_out_reason = optional_reason(
+        "Why closed tests not named in `tests` are left out (printed beside them)."
     )
 
 
@@ -99,8 +106,11 @@ class SupersedeSerializer(serializers.Serializer):
     tests = serializers.PrimaryKeyRelatedField(
         queryset=PowerUpTest.objects.all(), many=True, required=False
     )
-    calibration_override = serializers.CharField(
-        required=False, allow_blank=True, default="", max_length=2000
+    calibration_override = optional_reason(
+        "Why an out-of-calibration meter is acceptable here (printed)."
+    )
+    left_out_reason = optional_reason(
+        "Why closed tests not named in `tests` are left out (printed beside them)."
     )
 
 

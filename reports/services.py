@@ -33,6 +33,9 @@ from .snapshot import build_certificate_snapshot, instruments_used
 
 # A job is certified only once it is on or past the test bench.
 CERTIFIABLE_STATES = frozenset({JobState.TESTING, JobState.READY})
+# A job's valid certificate may be superseded (corrected) even after the unit went back.
+SUPERSEDABLE_STATES = CERTIFIABLE_STATES | {JobState.RETURNED}
+AUTOMATIC_REASON = "A later certificate was issued for the same job."
 CODE_BYTES = 15  # 120 random bits (at least 80 asked for), not derived from number or hash
 CODE_GROUP = 5
 
@@ -48,8 +51,8 @@ def _require_lead(user) -> None:
         raise Forbidden("Only a shop lead issues, supersedes or revokes certificates.")
 
 
-def _tests_for(job: Job, tests: list[PowerUpTest] | None) -> list[PowerUpTest]:
-    closed = list(
+def _closed_tests(job: Job) -> list[PowerUpTest]:
+    return list(
         job.powerups.filter(status=TestStatus.CLOSED)
         .select_related(
             "verdict",
@@ -65,6 +68,17 @@ def _tests_for(job: Job, tests: list[PowerUpTest] | None) -> list[PowerUpTest]:
         )
         .order_by("closed_at", "id")
     )
+
+
+def _tests_for(
+    job: Job, tests: list[PowerUpTest] | None, left_out_reason: str
+) -> tuple[list[PowerUpTest], list[dict]]:
+    """The closed tests a certificate covers, and those it leaves out with the reason.
+
+    All closed tests unless `tests` names some; leaving any out needs a stated reason.
+    """
+    closed = _closed_tests(job)
+    left_out: list[PowerUpTest] = []
     if tests is not None:
         wanted = {test.pk for test in tests}
         strangers = wanted - {test.pk for test in job.powerups.all()}
@@ -81,6 +95,7 @@ def _tests_for(job: Job, tests: list[PowerUpTest] | None) -> list[PowerUpTest]:
                 field="tests",
                 code="test_open",
             )
+        left_out = [test for test in closed if test.pk not in wanted]
         closed = [test for test in closed if test.pk in wanted]
     if not closed:
         raise Conflict(
@@ -88,7 +103,19 @@ def _tests_for(job: Job, tests: list[PowerUpTest] | None) -> list[PowerUpTest]:
             field="tests",
             code="no_closed_test",
         )
-    return closed
+    if left_out and not left_out_reason.strip():
+        raise ApplicationError(
+            "The certificate leaves out closed test(s) "
+            + ", ".join(str(test.pk) for test in left_out)
+            + ": state why in left_out_reason (it is printed), or cover every closed test.",
+            field="left_out_reason",
+            code="left_out_reason_required",
+        )
+    named = [
+        {"id": test.pk, "outcome": test.verdict.outcome, "reason": left_out_reason.strip()}
+        for test in left_out
+    ]
+    return closed, named
 
 
 def _calibration_override(tests: list[PowerUpTest], reason: str, user) -> dict | None:
@@ -114,21 +141,53 @@ def _calibration_override(tests: list[PowerUpTest], reason: str, user) -> dict |
     }
 
 
+def _valid_certificates(job: Job) -> list[Certificate]:
+    """The job's certificates that still answer `valid` (read under the job's row lock)."""
+    return [
+        certificate
+        for certificate in job.certificates.prefetch_related("events").order_by("issued_at", "id")
+        if certificate_status(certificate) == CertificateStatus.VALID
+    ]
+
+
 def _issue(
-    *, job: Job, tests, issued_by, calibration_override: str, supersedes: Certificate | None
+    *,
+    job: Job,
+    tests,
+    issued_by,
+    calibration_override: str,
+    left_out_reason: str = "",
+    reason: str = "",
+    superseding: Certificate | None = None,
 ) -> Certificate:
+    """Issue a certificate under the job's row lock, superseding the job's valid one.
+
+    The lock serialises every issue for one job, so however many leads issue at once, the job
+    ends with exactly one valid certificate: each new one supersedes the one before it.
+    """
     job = Job.objects.select_for_update().select_related("unit__owner").get(pk=job.pk)
-    if job.state not in CERTIFIABLE_STATES:
+    valid = _valid_certificates(job)
+    if superseding is not None and superseding.pk not in {c.pk for c in valid}:
+        status = certificate_status(
+            Certificate.objects.prefetch_related("events").get(pk=superseding.pk)
+        )
         raise Conflict(
-            f"Job {job.number} is {job.state}; a certificate is issued in testing or ready.",
+            f"Certificate {superseding.number} is already {status}.", code=f"already_{status}"
+        )
+    allowed = SUPERSEDABLE_STATES if valid else CERTIFIABLE_STATES
+    if job.state not in allowed:
+        raise Conflict(
+            f"Job {job.number} is {job.state}; a certificate is issued in testing or ready"
+            + (" (a returned job's certificate may be superseded by a lead)." if valid else "."),
             field="job",
             code="job_not_certifiable",
         )
-    chosen = _tests_for(job, tests)
+    chosen, left_out = _tests_for(job, tests, left_out_reason)
     override = _calibration_override(chosen, calibration_override, issued_by)
     issued_at = timezone.now()
     number = f"C-{issued_at.year}-{next_in_year(CertificateNumberCounter, year=issued_at.year):04d}"
     code = verification_code()
+    previous = valid[-1] if valid else None
     snapshot = canonical_json(
         build_certificate_snapshot(
             job=job,
@@ -137,8 +196,9 @@ def _issue(
             code=code,
             issued_by=issued_by,
             issued_at=issued_at,
-            supersedes=supersedes.number if supersedes else None,
+            supersedes=previous.number if previous else None,
             calibration_override=override,
+            left_out=left_out,
         )
     )
     pdf = render_certificate(json.loads(snapshot))
@@ -150,7 +210,7 @@ def _issue(
         snapshot=snapshot,
         sha256=sha256_hex(snapshot),
         verification_code=code,
-        supersedes=supersedes,
+        supersedes=previous,
     )
     certificate.pdf_sha256 = hashlib.sha256(pdf).hexdigest()
     certificate.pdf.save(f"{number}.pdf", ContentFile(pdf), save=False)
@@ -169,26 +229,49 @@ def _issue(
             "number": number,
             "job": job,
             "tests": chosen,
+            "left_out": left_out,
             "sha256": certificate.sha256,
-            "supersedes": supersedes,
+            "supersedes": previous,
             "calibration_override": override,
         },
     )
+    for old in valid:
+        _supersede(old, certificate, by=issued_by, reason=reason or AUTOMATIC_REASON)
     return certificate
+
+
+def _supersede(old: Certificate, new: Certificate, *, by, reason: str) -> None:
+    event = CertificateEvent(
+        certificate=old, kind=CertificateEventKind.SUPERSEDED, by=by, reason=reason, replacement=new
+    )
+    event.full_clean()
+    event.save()
+    audit_record(
+        actor=by,
+        action="certificate.supersede",
+        instance=old,
+        changes={"reason": reason, "replacement": new},
+    )
 
 
 @transaction.atomic
 def certificate_issue(
-    *, job: Job, issued_by, tests: list[PowerUpTest] | None = None, calibration_override: str = ""
+    *,
+    job: Job,
+    issued_by,
+    tests: list[PowerUpTest] | None = None,
+    calibration_override: str = "",
+    left_out_reason: str = "",
 ) -> Certificate:
-    """Issue a certificate for a job's closed tests (all of them unless `tests` names some)."""
+    """Issue a certificate for a job's closed tests (all of them unless `tests` names some,
+    with `left_out_reason`); the job's valid certificate, if any, is superseded by it."""
     _require_lead(issued_by)
     return _issue(
         job=job,
         tests=tests,
         issued_by=issued_by,
         calibration_override=calibration_override,
-        supersedes=None,
+        left_out_reason=left_out_reason,
     )
 
 
@@ -210,35 +293,27 @@ def certificate_supersede(
     reason: str,
     tests: list[PowerUpTest] | None = None,
     calibration_override: str = "",
+    left_out_reason: str = "",
 ) -> Certificate:
     """Issue a corrected certificate for the same job; the old one answers `superseded`."""
     _require_lead(by)
-    old = _lock_valid(certificate)
-    new = _issue(
-        job=old.job,
+    return _issue(
+        job=certificate.job,
         tests=tests,
         issued_by=by,
         calibration_override=calibration_override,
-        supersedes=old,
+        left_out_reason=left_out_reason,
+        reason=reason,
+        superseding=certificate,
     )
-    event = CertificateEvent(
-        certificate=old, kind=CertificateEventKind.SUPERSEDED, by=by, reason=reason, replacement=new
-    )
-    event.full_clean()
-    event.save()
-    audit_record(
-        actor=by,
-        action="certificate.supersede",
-        instance=old,
-        changes={"reason": reason, "replacement": new},
-    )
-    return new
 
 
 @transaction.atomic
 def certificate_revoke(*, certificate: Certificate, by, reason: str) -> CertificateEvent:
     """Withdraw a certificate; it answers `revoked` from then on."""
     _require_lead(by)
+    # The job's lock first, as an issue takes it: a revoke and an issue never cross.
+    Job.objects.select_for_update().get(pk=certificate.job_id)
     locked = _lock_valid(certificate)
     event = CertificateEvent(
         certificate=locked, kind=CertificateEventKind.REVOKED, by=by, reason=reason

@@ -12,6 +12,7 @@ from shop.bench.models import Instrument, PowerUpTest
 from shop.bench.prediction import running_curve
 from shop.bench.selectors import calibration_state, healthy_curves, healthy_switch_on
 from shop.core.safety import LIVE_CHASSIS_NOTE, caveats
+from shop.intake.facts import changed_rule_fields, unit_facts
 from shop.intake.models import Job
 
 SCHEMA = "certificate/1"
@@ -46,25 +47,72 @@ def _number(value: Decimal | float | None, unit: str) -> str | None:
     return f"{Decimal(str(value)).normalize():f} {unit}"
 
 
-def _unit(job: Job) -> dict:
+FACT_WORDS = {
+    "construction": "construction",
+    "protection_class": "protection class",
+    "rated_voltage": "rated voltage",
+    "rated_power": "rated power",
+    "rated_power_unit": "rated power unit",
+    "rated_frequency": "rated frequency",
+    "voltage_selector_setting": "voltage selector setting",
+}
+
+
+def _fact_words(facts: dict) -> dict:
+    """A test's frozen unit facts in the words the certificate prints."""
+    selector = facts.get("voltage_selector_setting")
+    return {
+        "rated_voltage": f"{facts['rated_voltage']} V",
+        "rated_power": f"{facts['rated_power']} {facts['rated_power_unit']}",
+        "rated_frequency": facts["rated_frequency_display"],
+        "voltage_selector": f"{selector} V" if selector is not None else None,
+        "construction": facts["construction_display"],
+        "protection_class": facts["protection_class_display"],
+        "chassis_may_be_live": facts["chassis_may_be_live"],
+    }
+
+
+def _changed_since(tests: list[PowerUpTest], now: dict) -> list[str]:
+    """Sentences naming each rule fact the unit record changed after a test froze it."""
+    sentences = []
+    for test in tests:
+        if not test.unit_facts:
+            continue
+        for name in changed_rule_fields(test.unit_facts, now):
+            sentences.append(
+                f"Test {test.pk} was judged with {FACT_WORDS[name]} "
+                f"{test.unit_facts.get(name)}; the unit record now says {now.get(name)}."
+            )
+    return sentences
+
+
+def _unit(job: Job, tests: list[PowerUpTest]) -> dict:
+    """The unit as tested: who it is from the record, its construction, class and nameplate as
+    frozen by the latest covered test (the record's own where a test froze none)."""
     unit = job.unit
     fuse = None
     if unit.fuse_rating is not None:
         fuse = f"{_number(unit.fuse_rating, 'A')}, {unit.get_fuse_type_display()}"
+    now = unit_facts(unit)
+    frozen = next((test.unit_facts for test in reversed(tests) if test.unit_facts), None)
+    described = _fact_words(frozen or now)
     return {
         "category": unit.get_category_display(),
         "maker": unit.maker,
         "model_name": unit.model_name,
         "serial": unit.serial,
         "year": unit.year,
-        "rated_voltage": _number(unit.rated_voltage, "V"),
-        "rated_power": _number(unit.rated_power, unit.rated_power_unit),
-        "rated_frequency": unit.get_rated_frequency_display(),
+        "rated_voltage": described["rated_voltage"],
+        "rated_power": described["rated_power"],
+        "rated_frequency": described["rated_frequency"],
+        "voltage_selector": described["voltage_selector"],
         "fuse": fuse,
-        "construction": unit.get_construction_display(),
-        "protection_class": unit.get_protection_class_display(),
+        "construction": described["construction"],
+        "protection_class": described["protection_class"],
         "cord": unit.get_cord_display(),
-        "chassis_may_be_live": unit.chassis_may_be_live,
+        "chassis_may_be_live": described["chassis_may_be_live"],
+        "facts_as_tested": frozen is not None,
+        "changed_since_tested": _changed_since(tests, now),
     }
 
 
@@ -101,23 +149,26 @@ def instruments_used(test: PowerUpTest) -> list[tuple[str, Instrument]]:
 
 
 def _rig(test: PowerUpTest) -> dict:
+    """The rig as the test used it: nominal mains and isolation as frozen at open."""
     rig = test.rig
+    frozen = test.rig_facts or {}
+    isolated = frozen.get("isolation_transformer", rig.isolation_transformer)
     source = rig.get_source_kind_display()
     if rig.output_at_full_dial:
         source += f", {_number(rig.output_at_full_dial, 'V')} at full dial"
     isolation = (
         "Isolation transformer"
         + (f", {_number(rig.isolation_rating, 'VA')}" if rig.isolation_rating else "")
-        if rig.isolation_transformer
+        if isolated
         else "No isolation transformer"
     )
     resistance = _number(rig.internal_resistance, "ohm") + (
         " (measured)" if rig.internal_resistance_measured else " (typical value, not measured)"
     )
     return {
-        "name": rig.name,
-        "mains_voltage": _number(rig.mains_voltage, "V"),
-        "mains_frequency": f"{rig.mains_frequency} Hz",
+        "name": frozen.get("name", rig.name),
+        "mains_voltage": _number(frozen.get("mains_voltage", rig.mains_voltage), "V"),
+        "mains_frequency": f"{frozen.get('mains_frequency', rig.mains_frequency)} Hz",
         "source": source,
         "isolation": isolation,
         "internal_resistance": resistance,
@@ -197,9 +248,11 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         )
     curves = healthy_curves(test, inputs, CURVE_POINTS)
     cap = curves["fault_current_cap"]
-    live = None
+    live = voltage = None
     if test.live_chassis_override:
         live = {"reason": test.live_chassis_override, "by": _person(test.override_by)}
+    if test.voltage_override:
+        voltage = {"reason": test.voltage_override, "by": _person(test.override_by)}
     return {
         "id": test.pk,
         "started_at": test.started_at.isoformat(),
@@ -211,6 +264,9 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "instruments": [_instrument(role, meter) for role, meter in instruments_used(test)],
         "calibration_override": override,
         "live_chassis_override": live,
+        "voltage_override": voltage,
+        "unit_as_tested": _fact_words(test.unit_facts) if test.unit_facts else None,
+        "warnings": list(test.warnings),
         "ambient_temperature": f"{test.ambient_temperature:g} K",
         "outcome": verdict.outcome,
         "outcome_words": OUTCOME_WORDS[verdict.outcome],
@@ -241,8 +297,14 @@ def build_certificate_snapshot(
     issued_at,
     supersedes: str | None,
     calibration_override: dict | None,
+    left_out: list[dict] = (),
 ) -> dict:
     """Everything the certificate states, as plain JSON-ready data."""
+    unit = _unit(job, tests)
+    tested_live = any(test.unit_facts.get("chassis_may_be_live") for test in tests)
+    ready_override = None
+    if job.ready_override:
+        ready_override = {"reason": job.ready_override, "by": _person(job.ready_override_by)}
     steps = job.steps.select_related("technician").order_by("performed_at", "id")
     return {
         "schema": SCHEMA,
@@ -265,8 +327,10 @@ def build_certificate_snapshot(
             "number": job.number,
             "received_on": job.received_on.isoformat(),
             "complaint": job.complaint,
+            "ready_override": ready_override,
         },
-        "unit": _unit(job),
+        "unit": unit,
+        "left_out_tests": list(left_out),
         "work_done": [
             {
                 "performed_at": step.performed_at.date().isoformat(),
@@ -283,6 +347,10 @@ def build_certificate_snapshot(
         "tests": [_test(test, calibration_override) for test in tests],
         "statement": STATEMENT,
         "caveats": caveats(),
-        "live_chassis_note": LIVE_CHASSIS_NOTE if job.unit.chassis_may_be_live else None,
+        "live_chassis_note": (
+            LIVE_CHASSIS_NOTE
+            if tested_live or unit["chassis_may_be_live"] or job.unit.chassis_may_be_live
+            else None
+        ),
         "signature": {"technician": _person(tests[-1].technician)},
     }

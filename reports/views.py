@@ -78,6 +78,7 @@ class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, views
             issued_by=request.user,
             tests=data.get("tests"),
             calibration_override=data["calibration_override"],
+            left_out_reason=data["left_out_reason"],
         )
         return Response(
             self.get_serializer(self.get_queryset().get(pk=certificate.pk)).data, status=201
@@ -105,6 +106,7 @@ class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, views
             reason=data["reason"],
             tests=data.get("tests"),
             calibration_override=data["calibration_override"],
+            left_out_reason=data["left_out_reason"],
         )
         return Response(self.get_serializer(self.get_queryset().get(pk=new.pk)).data, status=201)
 

@@ -13,6 +13,15 @@ from shop.bench import services
 from shop.intake import services as intake
 from shop.intake.models import JobState
 
+# A healthy 60 W, 120 V unit through the 60 W lamp on the 120 V rig: a pass when no meter is
+# named (with the `meter` fixture's spread, marginal).
+HEALTHY_60W_READINGS = [
+    {"source_voltage": 30.0, "load_voltage": 28.0, "glow_seen": "dark"},
+    {"source_voltage": 60.0, "load_voltage": 54.5, "glow_seen": "dark"},
+    {"source_voltage": 90.0, "load_voltage": 79.0, "glow_seen": "faint"},
+    {"source_voltage": 120.0, "load_voltage": 101.0, "glow_seen": "faint"},
+]
+
 
 @pytest.fixture
 def meter(staff):

@@ -89,10 +89,32 @@ def render_certificate(snapshot: dict) -> bytes:
         )
     if unit.get("chassis_may_be_live") or snapshot.get("live_chassis_note"):
         story += [live_chassis_box(snapshot.get("live_chassis_note"), width), Spacer(1, 6)]
+    if unit.get("changed_since_tested"):
+        story.append(
+            Paragraph(
+                "<b>The unit record changed after it was tested.</b> This certificate states the "
+                "facts the tests were judged with. "
+                + " ".join(text(line) for line in unit["changed_since_tested"]),
+                STYLES["warning"],
+            )
+        )
     story.append(Paragraph("Outcome", STYLES["heading"]))
     for index, test in enumerate(tests, start=1):
         story += [_outcome(test, index, len(tests), width), Spacer(1, 4)]
-    story += [_unit_and_job(snapshot, width), *_work_done(snapshot["work_done"], width)]
+    story.append(_unit_and_job(snapshot, width))
+    if snapshot["job"].get("ready_override"):
+        story.append(
+            _override("Released as ready without a passed test", snapshot["job"]["ready_override"])
+        )
+    for left in snapshot.get("left_out_tests", []):
+        story.append(
+            Paragraph(
+                f"<b>Not covered:</b> power-up test {text(left['id'])} ({text(left['outcome'])}): "
+                f"{text(left['reason'])}",
+                STYLES["warning"],
+            )
+        )
+    story += _work_done(snapshot["work_done"], width)
     for index, test in enumerate(tests, start=1):
         story += _test(test, index, len(tests), width)
     story += _caveats(snapshot, width)
@@ -277,6 +299,23 @@ def _set_up(test: dict, width: float) -> list:
         ),
         ("Ambient", text(test.get("ambient_temperature"))),
     ]
+    tested = test.get("unit_as_tested")
+    if tested:
+        rows.append(
+            (
+                "Unit as tested",
+                text(
+                    f"{tested['construction']}; {tested['protection_class']}; "
+                    f"{tested['rated_voltage']}, {tested['rated_power']}, "
+                    f"{tested['rated_frequency']}"
+                    + (
+                        f"; voltage selector at {tested['voltage_selector']}"
+                        if tested.get("voltage_selector")
+                        else ""
+                    )
+                ),
+            )
+        )
     instruments = [
         [
             Paragraph(text(meter.get("label")), STYLES["cell"]),
@@ -310,9 +349,12 @@ def _set_up(test: dict, width: float) -> list:
     for label, key in (
         ("Calibration override", "calibration_override"),
         ("Live-chassis override", "live_chassis_override"),
+        ("Voltage override", "voltage_override"),
     ):
         if test.get(key):
             flowables.append(_override(label, test[key]))
+    for warning in test.get("warnings", []):
+        flowables.append(Paragraph(f"<b>Bench warning:</b> {text(warning)}", STYLES["warning"]))
     return flowables
 
 

@@ -375,6 +375,11 @@ class BenchConfiguration(serializers.Serializer):
     valves_pulled = serializers.BooleanField(required=False, default=False)
     rectifier_pulled = serializers.BooleanField(required=False, default=False)
     dummy_load_on_output = serializers.BooleanField(required=False, default=False)
+    output_load_connected = serializers.BooleanField(
+        required=False,
+        default=False,
+        help_text="A speaker or dummy load is on the output (a valve amplifier needs one).",
+    )
     voltage_selector = serializers.CharField(
         required=False, default="", allow_blank=True, max_length=100
     )

@@ -36,16 +36,23 @@ def _meter(instrument: Instrument | None) -> dict | None:
 
 
 def verdict_inputs(test: PowerUpTest, readings: list[Reading]) -> dict:
-    """Everything the judgement uses, as JSON-ready plain numbers and words."""
+    """Everything the judgement uses, as JSON-ready plain numbers and words.
+
+    The rig's nominal mains and frequency are those frozen when the test opened, and the
+    unit facts the test was opened on travel with the verdict.
+    """
     rig = test.rig
+    frozen = test.rig_facts or {}
     return {
         "limiter": limiter_parameters(lamp=test.lamp, bank=test.bank),
         "declared_load": test.declared_load,
         "ambient_temperature": test.ambient_temperature,
         "modelled_ambient_temperature": modelled_ambient(test.ambient_temperature),
-        "nominal_source_voltage": float(rig.mains_voltage),
+        "nominal_source_voltage": float(frozen.get("mains_voltage", rig.mains_voltage)),
         "source_resistance": float(rig.internal_resistance),
-        "frequency": float(rig.mains_frequency),
+        "frequency": float(frozen.get("mains_frequency", rig.mains_frequency)),
+        "unit_facts": test.unit_facts,
+        "warnings": list(test.warnings),
         "voltmeter": _meter(test.load_meter or test.source_meter or rig.builtin_meter),
         "ammeter": _meter(test.current_meter),
         "readings": [{name: getattr(r, name) for name in READING_FIELDS} for r in readings],

@@ -314,8 +314,33 @@ class PowerUpTest(Versioned):
         help_text="A lead's stated reason for testing a live-chassis unit without "
         "an isolation transformer.",
     )
+    voltage_override = models.TextField(
+        blank=True,
+        help_text="A lead's stated reason for powering the unit from a rig whose nominal "
+        "voltage is outside the unit's rated range.",
+    )
     override_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.PROTECT, null=True, blank=True, related_name="+"
+    )
+    opened_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL,
+        on_delete=models.PROTECT,
+        null=True,
+        blank=True,
+        related_name="+",
+        help_text="Who opened the test (a lead may open one for the technician who takes the "
+        "readings).",
+    )
+    unit_facts = models.JSONField(
+        default=dict,
+        blank=True,
+        help_text="The unit's construction, class and nameplate as they stood when the test "
+        "opened: the facts the isolation rule and the judgement used.",
+    )
+    rig_facts = models.JSONField(
+        default=dict,
+        blank=True,
+        help_text="The rig's name, nominal mains and isolation when the test opened.",
     )
     warnings = models.JSONField(default=list, blank=True)
     notes = models.TextField(blank=True, max_length=4000)

@@ -74,7 +74,15 @@ def bank_list() -> QuerySet[LampBank]:
 def powerup_list() -> QuerySet[PowerUpTest]:
     meters = [Prefetch(f"{name}__calibrations") for name in METER_FIELDS]
     return PowerUpTest.objects.select_related(
-        "job__unit", "rig", "lamp", "bank", "technician", *METER_FIELDS
+        "job__unit",
+        "rig",
+        "lamp",
+        "bank",
+        "technician",
+        "opened_by",
+        "override_by",
+        "verdict",
+        *METER_FIELDS,
     ).prefetch_related(*meters)
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.contrib.auth import get_user_model
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
@@ -189,9 +190,15 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
 
     job = serializers.PrimaryKeyRelatedField(queryset=Job.objects.all())
     declared_load = serializers.JSONField(required=False)
-    technician = serializers.CharField(source="technician.username", read_only=True)
-    chassis_may_be_live = serializers.BooleanField(
-        source="job.unit.chassis_may_be_live", read_only=True
+    technician = serializers.SlugRelatedField(
+        slug_field="username",
+        queryset=get_user_model().objects.filter(is_active=True),
+        required=False,
+        help_text="Who takes the readings (username); defaults to whoever opens the test. "
+        "A lead overriding a rule names the technician here and is recorded as override_by.",
+    )
+    chassis_may_be_live = serializers.SerializerMethodField(
+        help_text="From the unit facts frozen when the test opened."
     )
     live_chassis_override = serializers.CharField(
         required=False,
@@ -199,7 +206,17 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
         max_length=2000,
         help_text="A lead's stated reason to test a live-chassis unit without isolation.",
     )
+    voltage_override = serializers.CharField(
+        required=False,
+        allow_blank=True,
+        max_length=2000,
+        help_text="A lead's stated reason to use a rig outside the unit's rated voltage.",
+    )
     calibration_flags = serializers.SerializerMethodField()
+    verdict_outcome = serializers.SerializerMethodField(
+        help_text="The verdict of a closed test (pass, marginal, fail, inconclusive); null "
+        "while open."
+    )
 
     class Meta:
         model = PowerUpTest
@@ -210,18 +227,23 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
             "lamp",
             "bank",
             "technician",
+            "opened_by",
             "declared_load",
             "ambient_temperature",
             "source_meter",
             "load_meter",
             "current_meter",
+            "unit_facts",
+            "rig_facts",
             "chassis_may_be_live",
             "live_chassis_override",
+            "voltage_override",
             "override_by",
             "warnings",
             "calibration_flags",
             "notes",
             "status",
+            "verdict_outcome",
             "started_at",
             "closed_at",
             "version",
@@ -229,8 +251,10 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
             "updated_at",
         ]
         read_only_fields = [
-            "technician",
+            "opened_by",
             "override_by",
+            "unit_facts",
+            "rig_facts",
             "warnings",
             "status",
             "started_at",
@@ -239,6 +263,15 @@ class PowerUpTestSerializer(serializers.ModelSerializer):
             "created_at",
             "updated_at",
         ]
+
+    @extend_schema_field(serializers.BooleanField(allow_null=True))
+    def get_chassis_may_be_live(self, test: PowerUpTest) -> bool | None:
+        return test.unit_facts.get("chassis_may_be_live")
+
+    @extend_schema_field(serializers.CharField(allow_null=True))
+    def get_verdict_outcome(self, test: PowerUpTest) -> str | None:
+        verdict = getattr(test, "verdict", None) if test.status == "closed" else None
+        return verdict.outcome if verdict is not None else None
 
     @extend_schema_field(serializers.ListField(child=serializers.CharField()))
     def get_calibration_flags(self, test: PowerUpTest) -> list[str]:

@@ -3,18 +3,21 @@
 from __future__ import annotations
 
 from datetime import date
+from decimal import Decimal
 
 from django.db import transaction
 from django.utils import timezone
 
 from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
-from shop.core.roles import LEAD, has_role
+from shop.core.roles import LEAD, TECHNICIAN, has_role
 from shop.core.services import create_validated, only_fields, update_versioned
-from shop.core.versioning import check_version
-from shop.intake.models import Job, JobState
+from shop.core.versioning import check_version, versioned_update
+from shop.intake.facts import rated_voltage_range, unit_facts
+from shop.intake.models import FrequencyRating, Job, JobState, Unit
 from shop.physics.lamp import Lamp as PhysicsLamp
 from shop.physics.meters import fit_meter_correction
+from shop.physics.nameplate import AMPLIFIER_CATEGORIES, LAST_VALVE_YEAR
 
 from . import judging
 from .declared_load import unit_model_document, validated_document
@@ -72,7 +75,8 @@ TEST_FIELDS = (
     "notes",
 )
 # Jobs in these states are not on the bench: no power-up test may be opened for them.
-CLOSED_JOB_STATES = frozenset({JobState.RETURNED, JobState.DECLINED})
+# A ready job has passed the readiness gate on its tests: a new test would change that answer.
+CLOSED_JOB_STATES = frozenset({JobState.RETURNED, JobState.DECLINED, JobState.READY})
 # A reading's source volts may exceed the rig's full output by this factor (meter spread).
 SOURCE_HEADROOM = 1.10
 # Unit volts may exceed source volts only by meter spread: this fraction plus this many volts.
@@ -292,6 +296,57 @@ def _rating_warnings(rig: Rig, document: dict) -> list[str]:
     return warnings
 
 
+def _frequency_warnings(facts: dict, rig_facts: dict) -> list[str]:
+    """A unit built for 60 Hz only, on a 50 Hz rig: its transformer core may saturate."""
+    if facts.get("rated_frequency") == FrequencyRating.HZ_60 and rig_facts["mains_frequency"] == 50:
+        return [
+            f"The unit is rated for 60 Hz and rig {rig_facts['name']} gives 50 Hz: a power "
+            "transformer built for 60 Hz draws more magnetising current at 50 Hz and may run "
+            "hot or saturate; expect a brighter lamp than the model of a 50 Hz unit."
+        ]
+    return []
+
+
+def _may_be_valve_amplifier(facts: dict, document: dict) -> bool:
+    if facts.get("category") not in AMPLIFIER_CATEGORIES:
+        return False
+    valve = document["parameters"].get("valve") if document["kind"] == "nameplate" else None
+    if valve is not None:
+        return bool(valve)
+    year = facts.get("year")
+    last = LAST_VALVE_YEAR.get(facts["category"], LAST_VALVE_YEAR["other"])
+    return year is None or int(year) <= last
+
+
+def _output_load_warnings(facts: dict, document: dict) -> list[str]:
+    """A valve amplifier powered without a load on its output can flash over its output
+    transformer: warn unless the bench configuration says a speaker or dummy load is on."""
+    configuration = document.get("configuration") or {}
+    connected = configuration.get("output_load_connected") or configuration.get(
+        "dummy_load_on_output"
+    )
+    if (
+        connected
+        or configuration.get("valves_pulled")
+        or not _may_be_valve_amplifier(facts, document)
+    ):
+        return []
+    return [
+        "This may be a valve amplifier and no output load is declared: connect a speaker or "
+        "dummy load to the output before power is applied, and say so in the declared load's "
+        "configuration (output_load_connected)."
+    ]
+
+
+def _test_warnings(rig: Rig, facts: dict, rig_facts: dict, document: dict) -> list[str]:
+    """Every warning a test carries: ratings, frequency and a valve amplifier's output load."""
+    return (
+        _rating_warnings(rig, document)
+        + _frequency_warnings(facts, rig_facts)
+        + _output_load_warnings(facts, document)
+    )
+
+
 def _check_limiter(rig: Rig, lamp: Lamp | None, bank: LampBank | None) -> None:
     if (lamp is None) == (bank is None):
         raise ApplicationError("Choose either one lamp or one bank.", field="lamp")
@@ -305,66 +360,133 @@ def _check_limiter(rig: Rig, lamp: Lamp | None, bank: LampBank | None) -> None:
         _check_technology(lamp.technology)
 
 
+def rig_facts(rig: Rig) -> dict:
+    """The rig facts a test freezes at open: name, nominal mains and isolation."""
+    return {
+        "name": rig.name,
+        "mains_voltage": float(rig.mains_voltage),
+        "mains_frequency": int(rig.mains_frequency),
+        "isolation_transformer": bool(rig.isolation_transformer),
+    }
+
+
+def _require_lead_override(actor, field: str) -> None:
+    if not has_role(actor, LEAD):
+        raise Forbidden(f"Only a lead may override this rule ({field}).", field=field)
+
+
+def _isolation_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
+    """Whether the isolation rule needed (and got) a lead's override; refuse otherwise."""
+    if not facts["chassis_may_be_live"] or rig_facts["isolation_transformer"]:
+        return False
+    if not reason.strip():
+        raise Conflict(
+            f"The unit's chassis may be live ({facts['construction_display']}) and rig "
+            f"{rig_facts['name']} has no isolation transformer. Use an isolated rig, or a "
+            "lead may override with a stated reason (live_chassis_override).",
+            field="rig",
+            code="isolation_required",
+        )
+    _require_lead_override(actor, "live_chassis_override")
+    return True
+
+
+def _voltage_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
+    """Whether the rig's nominal mains is outside the unit's rated range and a lead overrode
+    that with a reason; refuse without one."""
+    low, high, basis = rated_voltage_range(facts)
+    mains = Decimal(str(rig_facts["mains_voltage"]))
+    if low <= mains <= high:
+        return False
+    if not reason.strip():
+        raise Conflict(
+            f"Rig {rig_facts['name']} gives {float(mains):g} V nominal, outside the unit's "
+            f"rated {float(low):g}-{float(high):g} V (from its {basis}). Use a rig of the "
+            "unit's mains voltage, set the unit's voltage selector to match (a lead records "
+            "that on the unit), or a lead may override with a stated reason (voltage_override).",
+            field="rig",
+            code="voltage_mismatch",
+            extra={"rated_range": [float(low), float(high)], "rig_voltage": float(mains)},
+        )
+    _require_lead_override(actor, "voltage_override")
+    return True
+
+
+def _check_reader(technician) -> None:
+    if not has_role(technician, TECHNICIAN, LEAD):
+        raise ApplicationError(
+            f"{technician.get_username()} is not a technician or lead and cannot take readings.",
+            field="technician",
+        )
+
+
 @transaction.atomic
 def powerup_open(
     *,
     job: Job,
     rig: Rig,
     technician,
+    actor=None,
     lamp: Lamp | None = None,
     bank: LampBank | None = None,
     declared_load: dict | None = None,
     live_chassis_override: str = "",
+    voltage_override: str = "",
     **fields,
 ) -> PowerUpTest:
-    """Open a power-up test; a live-chassis unit needs isolation or a lead's stated reason."""
+    """Open a power-up test for `technician` (who takes the readings), opened by `actor`
+    (default: the technician).
+
+    The unit's construction, class and nameplate and the rig's mains and isolation are read
+    under row locks and frozen on the test: the isolation rule, the voltage check and the
+    judgement use those frozen facts. A live-chassis unit needs isolation, and a rig outside
+    the unit's rated voltage is refused, unless the actor is a lead who states a reason.
+    """
+    actor = actor or technician
     only_fields(
         fields, ("ambient_temperature", "source_meter", "load_meter", "current_meter", "notes")
     )
-    job = Job.objects.select_for_update().select_related("unit").get(pk=job.pk)
+    job = Job.objects.select_for_update().get(pk=job.pk)
     if job.state in CLOSED_JOB_STATES:
         raise Conflict(
             f"Job {job.number} is {job.state}; no power-up test can be opened.",
             field="job",
             code="job_closed",
         )
+    _check_reader(technician)
     _check_limiter(rig, lamp, bank)
-    override_by = None
-    if job.unit.chassis_may_be_live and not rig.isolation_transformer:
-        if not live_chassis_override.strip():
-            raise Conflict(
-                f"The unit's chassis may be live ({job.unit.get_construction_display()}) and rig "
-                f"{rig.name} has no isolation transformer. Use an isolated rig, or a lead may "
-                "override with a stated reason (live_chassis_override).",
-                field="rig",
-                code="isolation_required",
-            )
-        if not has_role(technician, LEAD):
-            raise Forbidden(
-                "Only a lead may override the isolation rule.", field="live_chassis_override"
-            )
-        override_by = technician
+    # Lock the unit and the rig: a change to either waits until this test holds its facts.
+    unit = Unit.objects.select_for_update().get(pk=job.unit_id)
+    rig = Rig.objects.select_for_update().get(pk=rig.pk)
+    facts, at_rig = unit_facts(unit), rig_facts(rig)
+    isolation_overridden = _isolation_check(facts, at_rig, live_chassis_override, actor)
+    voltage_overridden = _voltage_check(facts, at_rig, voltage_override, actor)
     document = (
         validated_document(declared_load)
         if declared_load is not None
-        else unit_model_document(job.unit)
+        else unit_model_document(unit)
     )
+    overridden = isolation_overridden or voltage_overridden
     test = PowerUpTest(
         job=job,
         rig=rig,
         lamp=lamp,
         bank=bank,
         technician=technician,
+        opened_by=actor,
         declared_load=document,
-        live_chassis_override=live_chassis_override,
-        override_by=override_by,
-        warnings=_rating_warnings(rig, document),
+        live_chassis_override=live_chassis_override.strip() if isolation_overridden else "",
+        voltage_override=voltage_override.strip() if voltage_overridden else "",
+        override_by=actor if overridden else None,
+        unit_facts=facts,
+        rig_facts=at_rig,
+        warnings=_test_warnings(rig, facts, at_rig, document),
         **fields,
     )
     test.full_clean()
     test.save()
     audit_record(
-        actor=technician,
+        actor=actor,
         action="powerup.open",
         instance=test,
         changes={
@@ -372,8 +494,12 @@ def powerup_open(
             "rig": rig,
             "lamp": lamp,
             "bank": bank,
+            "technician": technician,
             "declared_load": document,
-            "live_chassis_override": live_chassis_override,
+            "live_chassis_override": test.live_chassis_override,
+            "voltage_override": test.voltage_override,
+            "unit_facts": facts,
+            "rig_facts": at_rig,
             **fields,
         },
     )
@@ -396,7 +522,9 @@ def powerup_update(
     only_fields(changes, TEST_FIELDS)
     if "declared_load" in changes:
         changes["declared_load"] = validated_document(changes["declared_load"])
-        changes["warnings"] = _rating_warnings(locked.rig, changes["declared_load"])
+        changes["warnings"] = _test_warnings(
+            locked.rig, locked.unit_facts, locked.rig_facts, changes["declared_load"]
+        )
     return update_versioned(
         locked, expected=None, changes=changes, actor=actor, action="powerup.update"
     )
@@ -453,6 +581,8 @@ def readings_add(
         for index, data in enumerate(readings)
     ]
     Reading.objects.bulk_create(built)
+    # New readings are a change of the test: its version (and so its ETag) moves on.
+    versioned_update(locked, expected=None, changes={})
     audit_record(
         actor=actor,
         action="readings.add",

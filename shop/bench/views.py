@@ -183,7 +183,8 @@ class PowerUpViewSet(VersionedModelViewSet):
         return PowerUpTestSerializer
 
     def create_service(self, data, request):
-        return services.powerup_open(technician=request.user, **data)
+        technician = data.pop("technician", request.user)
+        return services.powerup_open(actor=request.user, technician=technician, **data)
 
     def update_service(self, instance, data, version, request):
         return services.powerup_update(

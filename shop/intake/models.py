@@ -141,6 +141,15 @@ class Unit(Versioned):
     )
     fuse_type = models.CharField(max_length=10, choices=FuseType.choices, default=FuseType.UNKNOWN)
     voltage_selector_as_found = models.CharField(max_length=100, blank=True)
+    voltage_selector_setting = models.DecimalField(
+        max_digits=6,
+        decimal_places=1,
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(MIN_RATED_VOLTAGE), MaxValueValidator(MAX_RATED_VOLTAGE)],
+        help_text="The mains voltage the unit's voltage selector is set to [V RMS]; when given, "
+        "it decides which rig voltages the unit may be powered up on.",
+    )
     construction = models.CharField(
         max_length=30, choices=Construction.choices, default=Construction.UNKNOWN
     )
@@ -217,6 +226,20 @@ class Job(Versioned):
         blank=True,
         editable=False,
         help_text="The state a job on hold returns to.",
+    )
+    ready_override = models.TextField(
+        blank=True,
+        max_length=2000,
+        editable=False,
+        help_text="A lead's stated reason for moving the job to ready without a passed test.",
+    )
+    ready_override_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL,
+        on_delete=models.PROTECT,
+        null=True,
+        blank=True,
+        editable=False,
+        related_name="+",
     )
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from django.db.models import QuerySet
+from django.db.models import OuterRef, QuerySet, Subquery
+
+from shop.bench.models import PowerUpTest, TestStatus
 
 from .models import Customer, Evidence, Job, JobMove, RepairStep, Unit
 
@@ -16,9 +18,20 @@ def unit_list() -> QuerySet[Unit]:
 
 
 def job_list() -> QuerySet[Job]:
-    # The technician's password hash has no business in a job page: never read it.
-    return Job.objects.select_related("unit", "unit__owner", "assigned_technician").defer(
-        "assigned_technician__password"
+    """Jobs with their unit, and the latest closed test and its outcome as two annotations."""
+    latest = PowerUpTest.objects.filter(job=OuterRef("pk"), status=TestStatus.CLOSED).order_by(
+        "-closed_at", "-id"
+    )
+    # Staff password hashes have no business in a job page: never read them.
+    return (
+        Job.objects.select_related(
+            "unit", "unit__owner", "assigned_technician", "ready_override_by"
+        )
+        .defer("assigned_technician__password", "ready_override_by__password")
+        .annotate(
+            latest_test_id=Subquery(latest.values("pk")[:1]),
+            latest_outcome=Subquery(latest.values("verdict__outcome")[:1]),
+        )
     )
 
 

@@ -37,6 +37,14 @@ class UnitSerializer(serializers.ModelSerializer):
 
     owner_name = serializers.CharField(source="owner.name", read_only=True)
     chassis_may_be_live = serializers.BooleanField(read_only=True)
+    hazard_change_reason = serializers.CharField(
+        write_only=True,
+        required=False,
+        allow_blank=True,
+        max_length=2000,
+        help_text="A lead's reason for a change that lowers the recorded hazard, or that "
+        "changes construction, class or nameplate of a unit already powered up.",
+    )
 
     class Meta:
         model = Unit
@@ -56,10 +64,12 @@ class UnitSerializer(serializers.ModelSerializer):
             "fuse_rating",
             "fuse_type",
             "voltage_selector_as_found",
+            "voltage_selector_setting",
             "construction",
             "protection_class",
             "cord",
             "chassis_may_be_live",
+            "hazard_change_reason",
             "condition_notes",
             "version",
             "created_at",
@@ -83,6 +93,13 @@ def technician_queryset():
     return get_user_model().objects.filter(is_active=True)
 
 
+class LatestVerdictSerializer(serializers.Serializer):
+    """The latest closed power-up test of a job and its verdict."""
+
+    test = serializers.IntegerField()
+    outcome = serializers.CharField()
+
+
 class JobSerializer(serializers.ModelSerializer):
     """A repair job; its state changes only through the transition endpoint."""
 
@@ -102,6 +119,12 @@ class JobSerializer(serializers.ModelSerializer):
         help_text="The state a job on hold returns to (blank unless on hold).",
     )
     allowed_targets = serializers.SerializerMethodField()
+    ready_override_by = serializers.CharField(
+        source="ready_override_by.username", read_only=True, default=None, allow_null=True
+    )
+    latest_verdict = serializers.SerializerMethodField(
+        help_text="The latest closed power-up test of the job and its outcome, or null."
+    )
 
     class Meta:
         model = Job
@@ -123,6 +146,9 @@ class JobSerializer(serializers.ModelSerializer):
             "state",
             "held_from",
             "allowed_targets",
+            "latest_verdict",
+            "ready_override",
+            "ready_override_by",
             "version",
             "created_at",
             "updated_at",
@@ -135,6 +161,13 @@ class JobSerializer(serializers.ModelSerializer):
             "created_at",
             "updated_at",
         ]
+
+    @extend_schema_field(LatestVerdictSerializer(allow_null=True))
+    def get_latest_verdict(self, job: Job) -> dict | None:
+        test = getattr(job, "latest_test_id", None)
+        if test is None:
+            return None
+        return {"test": test, "outcome": job.latest_outcome}
 
     @extend_schema_field(serializers.ListField(child=serializers.ChoiceField(JobState.choices)))
     def get_allowed_targets(self, job: Job) -> list[str]:
@@ -157,6 +190,14 @@ class JobTransitionSerializer(serializers.Serializer):
         allow_blank=True,
         default="",
         help_text="Who gave the customer's approval (needed to move to repairing).",
+    )
+    ready_override = serializers.CharField(
+        max_length=2000,
+        required=False,
+        allow_blank=True,
+        default="",
+        help_text="A lead's reason to move to ready although the latest closed power-up test "
+        "did not pass (kept on the job and printed on its certificate).",
     )
 
 

@@ -10,13 +10,15 @@ from django.core.exceptions import ValidationError
 from django.db import IntegrityError, transaction
 from django.utils import timezone
 
+from shop.bench.readiness import readiness_refusal
 from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
-from shop.core.roles import TECHNICIAN, has_role, user_roles
+from shop.core.roles import LEAD, TECHNICIAN, has_role, user_roles
 from shop.core.services import create_validated, only_fields, update_versioned
 from shop.core.versioning import check_version
 
+from .facts import hazard_lowering, rule_fields_changed, unit_facts
 from .models import (
     Customer,
     Evidence,
@@ -45,6 +47,7 @@ UNIT_FIELDS = (
     "fuse_rating",
     "fuse_type",
     "voltage_selector_as_found",
+    "voltage_selector_setting",
     "construction",
     "protection_class",
     "cord",
@@ -60,6 +63,8 @@ JOB_FIELDS = (
     "approved_at",
 )
 HASH_CHUNK = 1 << 20
+# A declined job goes back unrepaired: no power-up test stands behind its "ready".
+UNREPAIRED_STATES = frozenset({JobState.DECLINED})
 
 
 @transaction.atomic
@@ -94,15 +99,63 @@ def unit_create(*, actor, **fields) -> Unit:
     )
 
 
+def _guarded_fields(unit: Unit, changes: dict) -> list[str]:
+    """The changes only a lead may make: those lowering the recorded hazard, and any change
+    of a rule fact once the unit has been powered up (a test was judged on the old facts)."""
+    guarded = hazard_lowering(unit, changes)
+    if unit.jobs.filter(powerups__isnull=False).exists():
+        guarded += [name for name in rule_fields_changed(unit, changes) if name not in guarded]
+    return guarded
+
+
 @transaction.atomic
-def unit_update(*, unit: Unit, expected_version: int | None, actor, **changes) -> Unit:
-    return update_versioned(
-        unit,
-        expected=expected_version,
-        changes=only_fields(changes, UNIT_FIELDS),
-        actor=actor,
-        action="unit.update",
+def unit_update(
+    *,
+    unit: Unit,
+    expected_version: int | None,
+    actor,
+    hazard_change_reason: str = "",
+    **changes,
+) -> Unit:
+    """Update a unit. Lowering its recorded hazard (a live-chassis or unknown construction made
+    safe, an unknown class or frequency stated) or changing a rule fact of a unit already
+    powered up is a lead's act with a stated reason, kept in the audit trail."""
+    only_fields(changes, UNIT_FIELDS)
+    locked = Unit.objects.select_for_update().get(pk=unit.pk)
+    check_version(locked, expected_version)
+    guarded = _guarded_fields(locked, changes)
+    reason = hazard_change_reason.strip()
+    if guarded and not has_role(actor, LEAD):
+        raise Forbidden(
+            f"Only a lead may change {', '.join(guarded)} here: the change lowers the recorded "
+            "hazard or alters facts a power-up test was judged on. Ask a lead.",
+            field=guarded[0],
+            code="lead_required",
+        )
+    if guarded and not reason:
+        raise ApplicationError(
+            f"State why {', '.join(guarded)} changes (hazard_change_reason); the reason is "
+            "kept with the change.",
+            field="hazard_change_reason",
+            code="reason_required",
+        )
+    before = unit_facts(locked)
+    updated = update_versioned(
+        locked, expected=None, changes=changes, actor=actor, action="unit.update"
     )
+    if guarded:
+        audit_record(
+            actor=actor,
+            action="unit.rule_facts_change",
+            instance=updated,
+            changes={
+                "fields": guarded,
+                "before": before,
+                "after": unit_facts(updated),
+                "reason": reason,
+            },
+        )
+    return updated
 
 
 def _check_technician(user) -> None:
@@ -164,11 +217,14 @@ def job_transition(
     note: str = "",
     expected_version: int | None = None,
     approved_by: str = "",
+    ready_override: str = "",
 ) -> Job:
     """Move a job to `to_state` under a row lock, and record who moved it, when and why.
 
     Moving from awaiting_approval to repairing needs the customer's approval: pass
-    `approved_by` (who approved) unless the job already records it.
+    `approved_by` (who approved) unless the job already records it. Moving to ready (but
+    from declined) needs the latest closed power-up test to have passed, or a lead's stated
+    reason (`ready_override`), kept on the job.
     """
     locked = Job.objects.select_for_update().get(pk=job.pk)
     check_version(locked, expected_version)
@@ -205,12 +261,34 @@ def job_transition(
                 field="approved_by",
                 code="approval_required",
             )
+    if to_state == JobState.READY and locked.state not in UNREPAIRED_STATES:
+        changes.update(_readiness(locked, actor, ready_override))
     JobMove.objects.create(
         job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note
     )
     return update_versioned(
         locked, expected=None, changes=changes, actor=actor, action="job.transition"
     )
+
+
+def _readiness(job: Job, actor, reason: str) -> dict:
+    """The job's ready-override fields after the readiness gate, or its refusal."""
+    refusal = readiness_refusal(job)
+    if refusal is None:
+        return {"ready_override": "", "ready_override_by": None}
+    code, message = refusal
+    if not reason.strip():
+        raise Conflict(
+            f"{message} A job moves to ready only when its latest closed test passed; "
+            "a lead may override with a stated reason (ready_override).",
+            field="to_state",
+            code=code,
+        )
+    if not has_role(actor, LEAD):
+        raise Forbidden(
+            "Only a lead may move a job to ready without a passed test.", field="ready_override"
+        )
+    return {"ready_override": reason.strip(), "ready_override_by": actor}
 
 
 @transaction.atomic

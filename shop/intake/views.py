@@ -82,6 +82,7 @@ class UnitViewSet(VersionedModelViewSet):
     role_rules = {"read": ANY_ROLE, "create": DESK, "update": ANY_ROLE}
 
     def create_service(self, data, request):
+        data.pop("hazard_change_reason", None)  # a new unit lowers nothing
         return services.unit_create(actor=request.user, **data)
 
     def update_service(self, instance, data, version, request):
@@ -118,6 +119,10 @@ class JobViewSet(VersionedModelViewSet):
         "transition": ANY_ROLE,
         "moves": ANY_ROLE,
     }
+
+    def versioned_response(self, instance, status=200):
+        # Re-read through the list selector so the answer carries the latest verdict.
+        return super().versioned_response(selectors.job_list().get(pk=instance.pk), status)
 
     def create_service(self, data, request):
         return services.job_create(actor=request.user, **data)

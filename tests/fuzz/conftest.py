@@ -25,7 +25,7 @@ from .content import pdf_document, png_image
 
 # The demo staff who act for each role (fixtures/demo/intake.json).
 DEMO_USER_BY_ROLE = {"front_desk": "dana", "technician": "theo", "lead": "lena"}
-# Every seeded open test starts with these: a healthy 60 W unit on the 120 V rig.
+# Every seeded open test starts with these: a healthy 60 W, 120 V unit's readings.
 SEED_READINGS = [
     {"source_voltage": 40.0, "load_voltage": 37.0, "glow_seen": "dark"},
     {"source_voltage": 80.0, "load_voltage": 71.0, "glow_seen": "faint"},
@@ -72,14 +72,18 @@ def _expect(response, status: int):
 
 
 def seed_through_api() -> None:
-    """Open a test with readings on every job still on the bench, attach evidence to the first
-    job, and issue a certificate for every certifiable job that lacks one: through the API, as
-    the demo staff would."""
+    """Open a test with readings on every job still on the bench (not yet ready), attach
+    evidence to the first job, and issue a certificate for every certifiable job that lacks
+    one: through the API, as the demo staff would."""
     tech = _api_as(DEMO_USER_BY_ROLE["technician"])
-    rig = Rig.objects.filter(mains_voltage=120).order_by("id").first()
-    lamp = rig.lamps.order_by("rated_power").last()
-    on_bench = Job.objects.exclude(state__in=[JobState.RETURNED, JobState.DECLINED])
+    on_bench = Job.objects.exclude(
+        state__in=[JobState.RETURNED, JobState.DECLINED, JobState.READY]
+    ).select_related("unit")
     for job in on_bench.order_by("id"):
+        # The demo rig of the unit's mains (120 V or 230 V), as the bench would choose.
+        rig = Rig.objects.filter(mains_voltage=120 if job.unit.rated_voltage < 180 else 230)
+        rig = rig.order_by("id").first()
+        lamp = rig.lamps.order_by("rated_power").last()
         test = _expect(
             tech.post(
                 "/api/powerups/",

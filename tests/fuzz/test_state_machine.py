@@ -3,8 +3,9 @@
 Random sequences of moves (by every role), test openings, readings, closings and edits,
 certificate issues, supersessions and revocations never reach a state the rule tables forbid:
 every job move recorded is in ALLOWED_MOVES, a closed test's readings and verdict never change,
-a certificate is valid, superseded or revoked exactly as its history says. Each answer is the one
-the rules predict, and every refusal is a 4xx in the single error shape.
+a certificate is valid, superseded or revoked exactly as its history says, a job never holds two
+valid certificates, and a job reaches ready only past the readiness gate. Each answer is the
+one the rules predict, and every refusal is a 4xx in the single error shape.
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ from hypothesis.stateful import (
     initialize,
     invariant,
     multiple,
+    precondition,
     rule,
     run_state_machine_as_test,
 )
@@ -98,6 +100,8 @@ class ShopRules(RuleBasedStateMachine):
         self.job_model: dict[int, dict] = {}
         self.test_model: dict[int, dict] = {}
         self.certificate_model: dict[int, str] = {}
+        self.certificate_job: dict[int, int] = {}
+        self.closings = 0
         self._bench_job: int | None = None
         self._setting_up = False
 
@@ -209,6 +213,8 @@ class ShopRules(RuleBasedStateMachine):
             self.refused(response, 403)
         elif needs_approval:
             self.refused(response, 400, "approval_required")
+        elif to_state == JobState.READY and self.not_ready(job):
+            self.refused(response, 409, self.not_ready(job))
         else:
             assert response.status_code == 200, response.content
             if model["state"] == JobState.AWAITING_APPROVAL and to_state == JobState.REPAIRING:
@@ -216,6 +222,18 @@ class ShopRules(RuleBasedStateMachine):
             model["held_from"] = model["state"] if to_state == JobState.ON_HOLD else ""
             model["state"] = to_state
             self.count("moved")
+
+    def not_ready(self, job: int) -> str | None:
+        """The readiness gate's refusal code for moving `job` to ready, or None."""
+        if self.job_model[job]["state"] == JobState.DECLINED:
+            return None
+        tests = [t for t in self.test_model.values() if t["job"] == job]
+        if any(t["open"] for t in tests):
+            return "test_open"
+        if not tests:
+            return "no_closed_test"
+        latest = max(tests, key=lambda t: t["closing"])
+        return None if latest["verdict"][0] == "pass" else "latest_test_not_passed"
 
     # Power-up tests ---------------------------------------------------------------------
 
@@ -280,8 +298,10 @@ class ShopRules(RuleBasedStateMachine):
             self.refused(response, 409, "no_readings")
         else:
             assert response.status_code == 200, response.content
+            self.closings += 1
             model.update(
                 open=False,
+                closing=self.closings,
                 rows=_reading_rows(test),
                 verdict=Verdict.objects.filter(test_id=test).values_list(
                     "outcome", "reasons", "per_reading"
@@ -306,9 +326,28 @@ class ShopRules(RuleBasedStateMachine):
 
     # Certificates -----------------------------------------------------------------------
 
+    def valid_certificates(self, job: int) -> list[int]:
+        return [
+            pk
+            for pk, status in self.certificate_model.items()
+            if status == "valid" and self.certificate_job[pk] == job
+        ]
+
     def certifiable(self, job: int) -> bool:
+        """A closed test, and the job on the bench (or returned, to supersede its valid one)."""
         closed = any(t["job"] == job and not t["open"] for t in self.test_model.values())
-        return closed and self.job_model[job]["state"] in CERTIFIABLE_STATES
+        state = self.job_model[job]["state"]
+        return closed and (
+            state in CERTIFIABLE_STATES
+            or (state == JobState.RETURNED and bool(self.valid_certificates(job)))
+        )
+
+    def now_valid(self, certificate: int, job: int) -> None:
+        """A new certificate of `job` is valid; the one it supersedes is not."""
+        for previous in self.valid_certificates(job):
+            self.certificate_model[previous] = "superseded"
+        self.certificate_model[certificate] = "valid"
+        self.certificate_job[certificate] = job
 
     @rule(target=certificates, data=st.data(), role=st.sampled_from(ROLES_LEAD_FIRST))
     def issue_certificate(self, data, role):
@@ -326,7 +365,9 @@ class ShopRules(RuleBasedStateMachine):
         assert response.status_code == 201, response.content
         body = response.json()
         assert body["status"] == "valid"
-        self.certificate_model[body["id"]] = "valid"
+        if self.valid_certificates(job):
+            self.count("superseded")
+        self.now_valid(body["id"], job)
         self.count("issued")
         return body["id"]
 
@@ -358,11 +399,27 @@ class ShopRules(RuleBasedStateMachine):
             self.refused(response, 409)
         else:
             assert response.status_code == 201, response.content
-            self.certificate_model[certificate] = "superseded"
-            self.certificate_model[response.json()["id"]] = "valid"
+            self.now_valid(response.json()["id"], job)
             self.count("superseded")
             return response.json()["id"]
         return multiple()
+
+    @precondition(lambda self: "valid" in self.certificate_model.values())
+    @rule(data=st.data())
+    def revoke_a_valid_certificate(self, data):
+        """Each issue supersedes the job's valid certificate, so few in the bundle stay valid:
+        draw one that is, so revocations happen as often as before."""
+        valid = sorted(pk for pk, status in self.certificate_model.items() if status == "valid")
+        certificate = data.draw(st.sampled_from(valid), label="certificate")
+        response = self.client(LEAD).post(
+            f"/api/certificates/{certificate}/revoke/",
+            {"reason": "Issued in error."},
+            format="json",
+        )
+        assert response.status_code == 200, response.content
+        assert response.json()["status"] == "revoked"
+        self.certificate_model[certificate] = "revoked"
+        self.count("revoked")
 
     # What must always hold --------------------------------------------------------------
 
@@ -407,6 +464,13 @@ class ShopRules(RuleBasedStateMachine):
             assert certificate_status(certificate) == self.certificate_model[certificate.pk]
         numbers = list(Certificate.objects.values_list("number", flat=True))
         assert len(numbers) == len(set(numbers))
+        for job in self.job_model:
+            valid = [
+                c
+                for c in Certificate.objects.filter(job_id=job)
+                if certificate_status(c) == "valid"
+            ]
+            assert len(valid) <= 1, (job, valid)
 
 
 @pytest.fixture

@@ -44,10 +44,19 @@ ROUTE = {
 def bring_to(job: Job, state: str, actor) -> Job:
     for target in ROUTE[state]:
         job = services.job_transition(
-            job=job, to_state=target, actor=actor, approved_by="Orla by phone"
+            job=job,
+            to_state=target,
+            actor=actor,
+            approved_by="Orla by phone",
+            ready_override=NO_TEST_HERE,
         )
     assert job.state == state
     return job
+
+
+# These move tests exercise the move table alone; the readiness gate (a passed power-up test
+# before ready) has its own tests, so the lead states why it does not apply here.
+NO_TEST_HERE = "Move-table test: no power-up test belongs to this job."
 
 
 ALL_PAIRS = [(s, t) for s in JobState.values for t in JobState.values]
@@ -73,6 +82,7 @@ def test_lead_can_make_every_legal_move(job, staff, source, target):
         actor=staff["lead"],
         note="bench note",
         approved_by="Orla by phone",
+        ready_override=NO_TEST_HERE,
     )
     assert moved.state == target
     last = JobMove.objects.filter(job=job).last()

@@ -5,13 +5,9 @@ from __future__ import annotations
 import pytest
 
 from shop.bench import services as bench
+from tests.fixtures_bench import HEALTHY_60W_READINGS
 
-READINGS = [
-    {"source_voltage": 30.0, "load_voltage": 28.0, "glow_seen": "dark"},
-    {"source_voltage": 60.0, "load_voltage": 54.5, "glow_seen": "dark"},
-    {"source_voltage": 90.0, "load_voltage": 79.0, "glow_seen": "faint"},
-    {"source_voltage": 120.0, "load_voltage": 101.0, "glow_seen": "faint"},
-]
+READINGS = HEALTHY_60W_READINGS
 
 
 @pytest.fixture

@@ -36,8 +36,9 @@ class Command(BaseCommand):
         else:
             bench = json.loads((DEMO_DIR / "bench.json").read_text())
             with transaction.atomic():
-                units = self.load_records(data, staff)
+                units, after_bench = self.load_records(data, staff)
                 tests = load_demo_bench(bench, staff, units)
+                self.finish_moves(after_bench, lead=self.lead_of(data, staff))
             self.stdout.write(
                 f"Loaded {len(data['customers'])} customers, {len(data['units'])} units, "
                 f"{len(data['jobs'])} jobs, {len(bench['rigs'])} rigs and "
@@ -81,7 +82,7 @@ class Command(BaseCommand):
         return staff
 
     def load_records(self, data: dict, staff: dict[str, User]) -> dict:
-        lead = next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
+        lead = self.lead_of(data, staff)
         desk = next(staff[p["username"]] for p in data["staff"] if p["role"] == "front_desk")
         customers = {}
         for entry in data["customers"]:
@@ -94,6 +95,7 @@ class Command(BaseCommand):
                 actor=desk, owner=customers[entry["owner"]], **fields
             )
         today = timezone.localdate()
+        after_bench = []
         for entry in data["jobs"]:
             job = services.job_create(
                 actor=desk,
@@ -111,8 +113,27 @@ class Command(BaseCommand):
                     minutes=step["minutes"],
                     parts=step.get("parts", []),
                 )
-            for target in entry["route"]:
+            route = entry["route"]
+            # Ready comes after the bench: the readiness gate reads the job's tests.
+            cut = route.index("ready") if "ready" in route else len(route)
+            for target in route[:cut]:
                 job = services.job_transition(
                     job=job, to_state=target, actor=lead, approved_by="Customer, by phone"
                 )
-        return units
+            if route[cut:]:
+                after_bench.append((job, route[cut:], entry.get("ready_override", "")))
+        return units, after_bench
+
+    @staticmethod
+    def lead_of(data: dict, staff: dict[str, User]) -> User:
+        return next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
+
+    @staticmethod
+    def finish_moves(after_bench: list, *, lead: User) -> None:
+        """The moves from testing on, once the jobs' power-up tests are closed."""
+        for job, route, ready_override in after_bench:
+            job.refresh_from_db()
+            for target in route:
+                job = services.job_transition(
+                    job=job, to_state=target, actor=lead, ready_override=ready_override
+                )
