@@ -53,6 +53,7 @@ from django.core.serializers.jsonl import Serializer as JsonLinesSerializer
 from django.db import DEFAULT_DB_ALIAS, DatabaseError, connections, router, transaction
 from django.db.migrations.recorder import MigrationRecorder
 from django.db.models import Model
+from django.db.utils import load_backend
 
 from .errors import ApplicationError
 from .signing import record_sign, record_signature_problem
@@ -269,14 +270,15 @@ def _sqlite_copy(using: str):
             connection.connection.backup(target, pages=-1)
         finally:
             target.close()
-        connections.settings[alias] = {**connections.settings[using], "NAME": str(copy)}
+        # Opened beside the configured databases, not added to them: it lives for this dump.
+        settings_dict = {**connections.settings[using], "NAME": str(copy)}
+        wrapper = load_backend(settings_dict["ENGINE"]).DatabaseWrapper(settings_dict, alias)
+        connections[alias] = wrapper
         try:
             yield alias
         finally:
-            if alias in connections:
-                connections[alias].close()
-                del connections[alias]
-            del connections.settings[alias]
+            wrapper.close()
+            del connections[alias]
 
 
 def backup_create(
