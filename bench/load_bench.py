@@ -316,13 +316,17 @@ def seed(env: dict, sizes: Sizes, python: str) -> tuple[float, float, str]:
     return migrated, seeded, summary
 
 
+RUN_SIGNING_KEY = secrets.token_urlsafe(48)
+
+
 def child_env(database_url: str, folder: Path) -> dict:
     env = {
         **os.environ,
         "DJANGO_SETTINGS_MODULE": SETTINGS,
         "DATABASE_URL": database_url,
         "SECRET_KEY": secrets.token_urlsafe(48),
-        "RECORD_SIGNING_KEY": secrets.token_urlsafe(48),
+        # One key for the whole run: an archive written by one child is restored by another.
+        "RECORD_SIGNING_KEY": RUN_SIGNING_KEY,
         "SHOP_DATA_DIR": str(folder),
         "DATABASE_CONN_MAX_AGE": CONNECTION_MAX_AGE,
         "PYTHONPATH": str(ROOT),
