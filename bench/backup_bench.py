@@ -10,7 +10,9 @@ bench/load_bench.py): seed a large shop (``manage.py seed_large``) into one data
   and ``loaddata`` of the dump into a third;
 
 and check that both copies hold as many records of every model as the original. Each step runs
-in a child process whose environment names its database; only the call itself is timed.
+in a child process whose environment names its database; only the call itself is timed. While
+backup_create runs, another connection writes one cache row (a write like any other, outside
+the models so the counts stay comparable): its time is printed beside the same write alone.
 """
 
 from __future__ import annotations
@@ -19,6 +21,7 @@ import argparse
 import json
 import os
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -31,6 +34,8 @@ DUMPDATA_OPTIONS = {
     "exclude": ["contenttypes", "auth.permission"],
 }
 RESULT_PREFIX = "BACKUP_BENCH "
+# How long after backup_create starts the concurrent write is made (within the dump).
+WRITE_AFTER_SECONDS = 0.5
 
 
 # Children: one timed call against the database their environment names ----------------------
@@ -47,6 +52,15 @@ def child(step: str, path: Path) -> None:
     from shop.core.backup import backed_up_models, backup_create, backup_restore
 
     figures: dict = {}
+    if step == "create":
+        figures["write_alone"] = timed_write_in_thread("alone", delay=0.0)
+        during: dict = {}
+        writer = threading.Thread(
+            target=lambda: during.update(
+                seconds=timed_write_in_thread("during", delay=WRITE_AFTER_SECONDS)
+            )
+        )
+        writer.start()
     start = time.perf_counter()
     if step == "create":
         figures["records"] = backup_create(path=path).total_records
@@ -57,12 +71,39 @@ def child(step: str, path: Path) -> None:
     elif step == "loaddata":
         call_command("loaddata", str(path), verbosity=0)
     figures["seconds"] = time.perf_counter() - start
+    if step == "create":
+        writer.join()
+        figures["write_during"] = during["seconds"]
     if step in {"create", "dumpdata"}:
         figures["bytes"] = path.stat().st_size
     figures["counts"] = {
         model._meta.label_lower: model._base_manager.count() for model in backed_up_models()
     }
     print(RESULT_PREFIX + json.dumps(figures))
+
+
+def timed_write_in_thread(key: str, delay: float) -> float | str:
+    """Seconds one cache write takes on a connection of its own, or why it failed."""
+    from django.core.cache import cache
+    from django.db import connections
+
+    outcome: dict = {}
+
+    def write() -> None:
+        time.sleep(delay)
+        start = time.perf_counter()
+        try:
+            cache.set(f"backup-bench-{key}", time.time(), 60)
+            outcome["value"] = time.perf_counter() - start
+        except Exception as exc:  # the failure is the figure
+            outcome["value"] = f"failed after {time.perf_counter() - start:.1f} s: {exc}"
+        finally:
+            connections.close_all()
+
+    thread = threading.Thread(target=write)
+    thread.start()
+    thread.join()
+    return outcome["value"]
 
 
 def step(env: dict, name: str, path: Path) -> dict:
@@ -124,9 +165,19 @@ def print_table(results: dict, sizes: Sizes, label: str) -> None:
     row("records (all models)", lambda r: f"{r['records']:,} (seeded in {r['seed']:.0f} s)")
     row("dumpdata, JSON (baseline)", lambda r: written(r["dumpdata"], r["dumpdata"]))
     row("backup_create, zip + SHA-256", lambda r: written(r["create"], r["dumpdata"]))
+    row(
+        "a write during backup_create",
+        lambda r: write_figure(r["create"]["write_during"], r["create"]["write_alone"]),
+    )
     row("loaddata into a new db (baseline)", lambda r: loaded(r["loaddata"], r["loaddata"]))
     row("backup_restore into a new db", lambda r: loaded(r["restore"], r["loaddata"]))
     print("  (ratio: time against the baseline in the same run; 2 shared cores: noisy)")
+
+
+def write_figure(during, alone) -> str:
+    if isinstance(during, str) or isinstance(alone, str):
+        return f"{during} (alone: {alone})"
+    return f"{during * 1000:.1f} ms (alone: {alone * 1000:.1f} ms)"
 
 
 def main(argv: list[str] | None = None) -> int:

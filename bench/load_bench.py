@@ -187,16 +187,16 @@ def measure_in_process(out: Path, samples: int) -> None:
     from django.contrib.auth.models import User
     from django.db import connection
     from django.test.utils import CaptureQueriesContext
-    from rest_framework.authtoken.models import Token
     from rest_framework.test import APIClient
 
     from shop.bench import services as bench_services
+    from shop.core.authentication import token_create
     from shop.intake.models import Job
 
     technician = User.objects.get(username="seed_tech_1")
-    token, _ = Token.objects.get_or_create(user=technician)
+    _, key = token_create(user=technician)
     client = APIClient()
-    client.credentials(HTTP_AUTHORIZATION=f"Token {token.key}")
+    client.credentials(HTTP_AUTHORIZATION=f"Token {key}")
     rng = random.Random(11)
     job_ids = list(Job.objects.values_list("id", flat=True))
     pages = Job.objects.filter(state="returned").count() // PAGE_SIZE
@@ -297,7 +297,7 @@ def measure_in_process(out: Path, samples: int) -> None:
             {
                 "in_process": results,
                 "wrk": {
-                    "token": token.key,
+                    "token": key,
                     "jobs": job_ids,
                     "write_jobs": write_jobs,
                     "open_tests": open_tests,
@@ -355,12 +355,17 @@ def seed(env: dict, sizes: Sizes, python: str) -> tuple[float, float, str]:
     return migrated, seeded, summary
 
 
+RUN_SIGNING_KEY = secrets.token_urlsafe(48)
+
+
 def child_env(database_url: str, folder: Path) -> dict:
     env = {
         **os.environ,
         "DJANGO_SETTINGS_MODULE": SETTINGS,
         "DATABASE_URL": database_url,
         "SECRET_KEY": secrets.token_urlsafe(48),
+        # One key for the whole run: an archive written by one child is restored by another.
+        "RECORD_SIGNING_KEY": RUN_SIGNING_KEY,
         "SHOP_DATA_DIR": str(folder),
         "DATABASE_CONN_MAX_AGE": CONNECTION_MAX_AGE,
         "PYTHONPATH": str(ROOT),

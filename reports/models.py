@@ -48,6 +48,13 @@ class Certificate(AppendOnly):
     verification_code = models.CharField(max_length=40, unique=True)
     pdf = models.FileField(upload_to=certificate_pdf_path, max_length=255, editable=False)
     pdf_sha256 = models.CharField(max_length=64, editable=False)
+    signature = models.CharField(
+        max_length=100,
+        editable=False,
+        help_text=(
+            "HMAC-SHA256 of number, snapshot and PDF under RECORD_SIGNING_KEY (reports.signing)."
+        ),
+    )
     supersedes = models.OneToOneField(
         "self", on_delete=models.PROTECT, null=True, blank=True, related_name="superseded_by"
     )

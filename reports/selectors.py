@@ -14,7 +14,11 @@ from shop.intake.models import Job
 
 from .canonical import sha256_hex
 from .models import Certificate, certificate_status
+from .signing import certificate_signature_problem
 
+# Compared against when no certificate has the number: as long as a real code (24 letters in
+# groups of 5), and made of a character no verifier can type.
+UNKNOWN_NUMBER_CODE = "\x00" * 28
 NEXT_STEPS = (
     "A technician inspects the unit and tells you what is wrong and what the repair will cost.",
     "Nothing is repaired without your approval.",
@@ -57,9 +61,21 @@ def pdf_intact(certificate: Certificate) -> bool:
     )
 
 
+def certificate_problem(certificate: Certificate) -> str | None:
+    """What no longer matches what was issued (snapshot, signature, stored PDF), or None."""
+    if not snapshot_intact(certificate):
+        return "its snapshot no longer hashes to the SHA-256 recorded at issue"
+    signature = certificate_signature_problem(certificate)
+    if signature:
+        return f"{signature} (RECORD_SIGNING_KEY)"
+    if not pdf_intact(certificate):
+        return "its stored PDF is missing or changed"
+    return None
+
+
 def certificate_intact(certificate: Certificate) -> bool:
-    """Snapshot and stored PDF both as issued."""
-    return snapshot_intact(certificate) and pdf_intact(certificate)
+    """Snapshot, signature and stored PDF all as issued."""
+    return certificate_problem(certificate) is None
 
 
 def stored_pdf(certificate: Certificate) -> bytes:
@@ -78,11 +94,14 @@ def stored_pdf(certificate: Certificate) -> bytes:
 
 def certificate_for_verification(number: str, code: str) -> Certificate | None:
     """The certificate only when both number and code match; None for any mismatch alike."""
-    certificate = certificate_list().filter(number=number).first()
-    supplied = (code or "").strip().upper()
-    stored = certificate.verification_code if certificate else "X" * len(supplied)
-    matches = hmac.compare_digest(stored.encode(), supplied.encode())
-    return certificate if certificate and matches else None
+    # A wrong code costs what an unknown number costs: one query for the code alone and one
+    # comparison; the certificate itself (three more queries) is read only after a match.
+    supplied = (code or "").strip().upper().encode()
+    found = Certificate.objects.filter(number=number).values_list("pk", "verification_code")
+    pk, stored = found.first() or (None, UNKNOWN_NUMBER_CODE)
+    if not hmac.compare_digest(stored.encode(), supplied) or pk is None:
+        return None
+    return certificate_list().get(pk=pk)
 
 
 def verification_answer(certificate: Certificate) -> dict:

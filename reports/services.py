@@ -29,6 +29,7 @@ from .models import (
     certificate_status,
 )
 from .pdf import render_certificate
+from .signing import certificate_sign
 from .snapshot import build_certificate_snapshot, instruments_used
 
 # A job is certified only once it is on or past the test bench.
@@ -213,6 +214,9 @@ def _issue(
         supersedes=previous,
     )
     certificate.pdf_sha256 = hashlib.sha256(pdf).hexdigest()
+    certificate.signature = certificate_sign(
+        number=number, snapshot=snapshot, pdf_sha256=certificate.pdf_sha256
+    )
     certificate.pdf.save(f"{number}.pdf", ContentFile(pdf), save=False)
     try:
         certificate.full_clean()

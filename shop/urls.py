@@ -10,6 +10,7 @@ from shop.core.auth_views import (
     TokenObtainView,
     TokenRevokeView,
     UserTokenRevokeView,
+    admin_login,
 )
 
 handler400 = "shop.core.errors.json_bad_request"
@@ -17,6 +18,8 @@ handler404 = "shop.core.errors.json_not_found"
 handler500 = "shop.core.errors.json_server_error"
 
 urlpatterns = [
+    # Before the admin's own routes, so that its sign-in page is the throttled one.
+    path("admin/login/", admin_login, name="admin-login"),
     path("admin/", admin.site.urls),
     # Before DRF's own auth routes, so that its sign-in page is the throttled one.
     path("api/auth/login/", SessionLoginView.as_view(), name="login"),

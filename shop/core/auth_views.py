@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.contrib import admin
 from django.contrib.auth import get_user_model
 from django.contrib.auth.views import LoginView
 from django.http import JsonResponse
@@ -59,8 +60,24 @@ class TokenObtainView(APIView):
             if getattr(request, "axes_locked_out", False):
                 return lockout_response(request)
             raise ValidationError(serializer.errors)
-        token = token_issue(user=serializer.validated_data["user"], request=request)
-        return Response({"token": token.key, "expires_at": token_expires_at(token)})
+        token, key = token_issue(user=serializer.validated_data["user"], request=request)
+        return Response({"token": key, "expires_at": token_expires_at(token)})
+
+
+def sign_in_throttled(request, view) -> JsonResponse | None:
+    """The 429 answer when this address has used up its sign-in attempts (LoginThrottle)."""
+    throttle = LoginThrottle()
+    if throttle.allow_request(request, view):
+        return None
+    wait = max(1, int(throttle.wait() or 1))
+    response = JsonResponse(
+        error_body(
+            "throttled", f"Too many sign-in attempts from your address. Try again in {wait} s."
+        ),
+        status=429,
+    )
+    response["Retry-After"] = str(wait)
+    return response
 
 
 class SessionLoginView(LoginView):
@@ -69,23 +86,20 @@ class SessionLoginView(LoginView):
     template_name = "rest_framework/login.html"
 
     def post(self, request, *args, **kwargs):
-        throttle = LoginThrottle()
-        if not throttle.allow_request(request, self):
-            wait = max(1, int(throttle.wait() or 1))
-            response = JsonResponse(
-                error_body(
-                    "throttled",
-                    f"Too many sign-in attempts from your address. Try again in {wait} s.",
-                ),
-                status=429,
-            )
-            response["Retry-After"] = str(wait)
-            return response
-        return super().post(request, *args, **kwargs)
+        return sign_in_throttled(request, self) or super().post(request, *args, **kwargs)
+
+
+def admin_login(request, *args, **kwargs):
+    """The admin's sign-in page behind the same per-address limit as the browser sign-in."""
+    if request.method == "POST":
+        refused = sign_in_throttled(request, None)
+        if refused:
+            return refused
+    return admin.site.login(request, *args, **kwargs)
 
 
 class TokenRevokeView(APIView):
-    """End the caller's own API token (sessions are not touched)."""
+    """End the caller's own API tokens and browser sessions (sign out everywhere)."""
 
     permission_classes = [IsAuthenticated]
 
@@ -95,7 +109,7 @@ class TokenRevokeView(APIView):
 
 
 class UserTokenRevokeView(APIView):
-    """A shop lead ends another user's API tokens (a lost laptop, someone leaving)."""
+    """A shop lead ends another user's API tokens and sessions (a lost laptop, someone leaving)."""
 
     permission_classes = [HasShopRole]
     action = "revoke"

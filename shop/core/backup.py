@@ -9,10 +9,19 @@ An archive holds:
   kept; content types and permissions are named by natural key because every database numbers
   them itself when it is migrated;
 - ``media/<storage name>``: every file in the default storage (evidence and anything else);
-- ``SHA256SUMS``: the SHA-256 of every other member, in ``sha256sum -c`` format.
+- ``SHA256SUMS``: the SHA-256 of every other member, in ``sha256sum -c`` format;
+- ``SIGNATURE``: the keyed hash of ``SHA256SUMS`` under RECORD_SIGNING_KEY (shop.core.signing),
+  which lives outside the database and the archive: an archive edited after it was written
+  cannot be given sums that verify.
 
-Restoring verifies every member before touching the database, refuses a database that already
-holds records, and then loads rows and writes files in one transaction: all or nothing.
+Sign-in secrets stay out: browser sessions, API tokens (kept only as hashes anyway) and the
+sign-in failure records. A restored shop signs in again.
+
+Restoring verifies the signature and every member before touching the database, refuses a
+database that already holds records, checks every size while streaming, validates every row
+as the API would (field limits, choices, no date later than the archive), and then loads rows
+and writes files in one transaction: all or nothing. `--verify-only` runs every one of those
+checks but the database's emptiness and the references between rows.
 """
 
 from __future__ import annotations
@@ -21,17 +30,20 @@ import hashlib
 import io
 import json
 import posixpath
+import sqlite3
 import tempfile
 import zipfile
 import zlib
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field
-from datetime import UTC, datetime, time
+from datetime import UTC, datetime, time, timedelta
 from pathlib import Path
 
 from django.apps import apps
+from django.conf import settings
 from django.core import serializers
+from django.core.exceptions import ValidationError
 from django.core.files import File
 from django.core.files.storage import Storage, default_storage
 from django.core.management.color import no_style
@@ -41,13 +53,17 @@ from django.core.serializers.jsonl import Serializer as JsonLinesSerializer
 from django.db import DEFAULT_DB_ALIAS, DatabaseError, connections, router, transaction
 from django.db.migrations.recorder import MigrationRecorder
 from django.db.models import Model
+from django.db.utils import load_backend
 
 from .errors import ApplicationError
+from .signing import record_sign, record_signature_problem
 
 FORMAT = "bench-record-service-backup"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
 MANIFEST = "manifest.json"
 SUMS = "SHA256SUMS"
+SIGNATURE = "SIGNATURE"
+SIGNING_PURPOSE = "backup-sums"
 DB_PREFIX = "db/"
 MEDIA_PREFIX = "media/"
 # Rows fetched per query while dumping: bounded memory for a table of any size.
@@ -61,6 +77,12 @@ COPY_BLOCK = 1 << 20
 NAMED_BY_NATURAL_KEY = frozenset({"contenttypes.contenttype", "auth.permission"})
 # Rows a fresh `migrate` creates (the role groups); the archive's own rows replace them.
 SEEDED_BY_MIGRATIONS = ("auth.group",)
+# Sign-in secrets and sign-in failure records: never written, and refused in an archive.
+NOT_BACKED_UP_APPS = frozenset({"sessions", "axes"})
+NOT_BACKED_UP_MODELS = frozenset({"core.apitoken"})
+# How far past the archive's own time a record's date may lie (clocks of two servers).
+CLOCK_SKEW = timedelta(minutes=5)
+MEMBER_NAME_MAX = 255
 
 Progress = Callable[[str], None]
 
@@ -115,6 +137,7 @@ class _HashingWriter(io.RawIOBase):
     def __init__(self, target):
         self.target = target
         self.sha256 = hashlib.sha256()
+        self.size = 0
 
     def writable(self) -> bool:
         return True
@@ -122,6 +145,7 @@ class _HashingWriter(io.RawIOBase):
     def write(self, data) -> int:
         self.sha256.update(data)
         self.target.write(data)
+        self.size += len(data)
         return len(data)
 
 
@@ -142,6 +166,11 @@ class _HashingReader(io.RawIOBase):
         return len(data)
 
 
+def _kept_out(label: str) -> bool:
+    """Whether rows of the model `label` ("app.model") are sign-in secrets no archive carries."""
+    return label.partition(".")[0] in NOT_BACKED_UP_APPS or label in NOT_BACKED_UP_MODELS
+
+
 def _named_by_natural_key(model: type[Model]) -> bool:
     return model._meta.label_lower in NAMED_BY_NATURAL_KEY
 
@@ -157,6 +186,7 @@ def backed_up_models(using: str = DEFAULT_DB_ALIAS) -> list[type[Model]]:
         if not model._meta.proxy
         and model._meta.managed
         and not _named_by_natural_key(model)
+        and not _kept_out(model._meta.label_lower)
         and router.allow_migrate_model(using, model)
     ]
 
@@ -206,18 +236,49 @@ def _counted(rows, label: str, progress: Progress, tally: dict[str, int]):
 
 @contextmanager
 def _one_snapshot(using: str):
-    """One transaction over the whole dump, so every model is read at the same moment.
+    """Yield the alias of a database that holds every model as of one moment, for the dump.
 
-    On PostgreSQL a repeatable-read snapshot lets writers carry on; on SQLite the project's
-    immediate transactions make writers wait (up to the busy timeout) while the dump runs.
+    On PostgreSQL, one repeatable-read transaction: writers carry on. On SQLite a transaction
+    here would be an immediate one (the project's setting) and hold the write lock for the
+    whole dump, so the database is first copied with SQLite's online backup API (one short
+    read) to a temporary file, and the dump reads the copy while writers carry on.
     """
     connection = connections[using]
+    if connection.vendor == "sqlite" and not connection.in_atomic_block:
+        with _sqlite_copy(using) as alias:
+            yield alias
+        return
     outermost = not connection.in_atomic_block
     with transaction.atomic(using=using):
         if outermost and connection.vendor == "postgresql":
             with connection.cursor() as cursor:
                 cursor.execute("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ, READ ONLY")
-        yield
+        yield using
+
+
+@contextmanager
+def _sqlite_copy(using: str):
+    """A consistent copy of the SQLite database `using`, opened under a temporary alias."""
+    connection = connections[using]
+    connection.ensure_connection()
+    alias = f"{using}-backup-copy"
+    with tempfile.TemporaryDirectory(prefix="shop-backup-") as folder:
+        copy = Path(folder) / "copy.sqlite3"
+        target = sqlite3.connect(copy)
+        try:
+            # pages=-1: the whole database in one step, so within one read transaction.
+            connection.connection.backup(target, pages=-1)
+        finally:
+            target.close()
+        # Opened beside the configured databases, not added to them: it lives for this dump.
+        settings_dict = {**connections.settings[using], "NAME": str(copy)}
+        wrapper = load_backend(settings_dict["ENGINE"]).DatabaseWrapper(settings_dict, alias)
+        connections[alias] = wrapper
+        try:
+            yield alias
+        finally:
+            wrapper.close()
+            del connections[alias]
 
 
 def backup_create(
@@ -248,7 +309,6 @@ def backup_create(
         "version": FORMAT_VERSION,
         "created_at": datetime.now(UTC).isoformat(),
         "database_vendor": connections[using].vendor,
-        "migrations": applied_migrations(using),
         "models": [],
         "media": [],
     }
@@ -256,9 +316,10 @@ def backup_create(
     partial = path.with_name(path.name + ".partial")
     try:
         with zipfile.ZipFile(partial, "w", compression=zipfile.ZIP_DEFLATED) as archive:
-            with _one_snapshot(using):
+            with _one_snapshot(using) as source:
+                manifest["migrations"] = applied_migrations(source)
                 for index, model in enumerate(backed_up_models(using), start=1):
-                    entry = _write_records(archive, model, index, using, progress, summary)
+                    entry = _write_records(archive, model, index, source, progress, summary)
                     sums[entry["member"]] = entry.pop("sha256")
                     manifest["models"].append(entry)
             progress(
@@ -281,7 +342,11 @@ def backup_create(
             manifest_bytes = json.dumps(manifest, indent=1, sort_keys=True).encode()
             archive.writestr(MANIFEST, manifest_bytes)
             sums[MANIFEST] = hashlib.sha256(manifest_bytes).hexdigest()
-            archive.writestr(SUMS, "".join(f"{sums[m]}  {m}\n" for m in sorted(sums)))
+            sums_bytes = "".join(f"{sums[m]}  {m}\n" for m in sorted(sums)).encode()
+            archive.writestr(SUMS, sums_bytes)
+            archive.writestr(
+                SIGNATURE, record_sign(purpose=SIGNING_PURPOSE, message=sums_bytes) + "\n"
+            )
         partial.replace(path)
     finally:
         partial.unlink(missing_ok=True)
@@ -308,6 +373,7 @@ def _write_records(archive, model, index: int, using: str, progress, summary) ->
         "model": label,
         "member": member,
         "records": summary.records[label],
+        "bytes": sink.size,
         "sha256": sink.sha256.hexdigest(),
     }
 
@@ -349,6 +415,14 @@ def _damaged(member: str, exc: Exception) -> ApplicationError:
     )
 
 
+def _refused(member: str, reason: str, code: str = "archive_invalid") -> ApplicationError:
+    return ApplicationError(
+        f"The archive member {member} is refused: {reason}. Nothing was restored.",
+        code=code,
+        extra={"member": member},
+    )
+
+
 def _open_archive(path: Path) -> zipfile.ZipFile:
     try:
         return zipfile.ZipFile(path)
@@ -361,10 +435,53 @@ def _open_archive(path: Path) -> zipfile.ZipFile:
         ) from exc
 
 
+def _member_cap() -> int:
+    return settings.BACKUP_MAX_MEMBER_BYTES
+
+
+def _size_problem(archive: zipfile.ZipFile, member: str, expected: int | None = None) -> None:
+    """Refuse a member larger than the cap, or whose size differs from the manifest's."""
+    size = archive.getinfo(member).file_size
+    if size > _member_cap():
+        raise _refused(
+            member,
+            f"it unpacks to {size} bytes, over BACKUP_MAX_MEMBER_BYTES ({_member_cap()})",
+            code="archive_too_large",
+        )
+    if expected is not None and size != expected:
+        raise _refused(member, f"it unpacks to {size} bytes; the manifest says {expected}")
+
+
+class _CappedReader(io.RawIOBase):
+    """Reads a member, refusing it the moment it yields more bytes than `limit`."""
+
+    def __init__(self, source, member: str, limit: int):
+        self.source, self.member, self.limit, self.size = source, member, limit, 0
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        data = self.source.read(len(buffer))
+        self.size += len(data)
+        if self.size > self.limit:
+            raise _refused(self.member, f"it unpacks to more than its {self.limit} bytes")
+        buffer[: len(data)] = data
+        return len(data)
+
+
+@contextmanager
+def _open_member(archive: zipfile.ZipFile, member: str):
+    """A member's stream, held to the size its header declares (itself within the cap)."""
+    _size_problem(archive, member)
+    with archive.open(member) as raw:
+        yield _CappedReader(raw, member, archive.getinfo(member).file_size)
+
+
 def _member_sha256(archive: zipfile.ZipFile, member: str) -> str:
     digest = hashlib.sha256()
     try:
-        with archive.open(member) as stream:
+        with _open_member(archive, member) as stream:
             while block := stream.read(COPY_BLOCK):
                 digest.update(block)
     except (zipfile.BadZipFile, zlib.error, EOFError, OSError) as exc:
@@ -372,15 +489,26 @@ def _member_sha256(archive: zipfile.ZipFile, member: str) -> str:
     return digest.hexdigest()
 
 
-def _read_sums(archive: zipfile.ZipFile) -> dict[str, str]:
+def _read_small(archive: zipfile.ZipFile, member: str) -> bytes:
     try:
-        text = archive.read(SUMS).decode()
+        with _open_member(archive, member) as stream:
+            return stream.read()
     except KeyError:
         raise ApplicationError(
-            f"The archive has no {SUMS}: it is not a backup written by `manage.py backup`.",
+            f"The archive has no {member}: it is not a backup written by `manage.py backup` "
+            f"of this release (format version {FORMAT_VERSION}).",
             code="archive_damaged",
         ) from None
-    except (zipfile.BadZipFile, zlib.error, EOFError, OSError, UnicodeDecodeError) as exc:
+    except (zipfile.BadZipFile, zlib.error, EOFError, OSError) as exc:
+        raise _damaged(member, exc) from exc
+
+
+def _read_sums(archive: zipfile.ZipFile) -> tuple[dict[str, str], bytes]:
+    """The sums by member, and the bytes of SHA256SUMS as stored (what the signature covers)."""
+    raw = _read_small(archive, SUMS)
+    try:
+        text = raw.decode()
+    except UnicodeDecodeError as exc:
         raise _damaged(SUMS, exc) from exc
     sums = {}
     for line in text.splitlines():
@@ -388,46 +516,96 @@ def _read_sums(archive: zipfile.ZipFile) -> dict[str, str]:
         if len(digest) != 64 or not member:
             raise _damaged(SUMS, ValueError(f"unreadable line {line!r}"))
         sums[member] = digest
-    return sums
+    return sums, raw
 
 
-def backup_verify(*, path: Path, progress: Progress = _quiet) -> dict:
-    """Check every member of the archive against its SHA-256 sum; return the manifest.
+def _check_signature(archive: zipfile.ZipFile, sums_bytes: bytes) -> None:
+    """Refuse an archive whose sums were not signed by this shop's RECORD_SIGNING_KEY."""
+    signature = _read_small(archive, SIGNATURE).decode(errors="replace").strip()
+    problem = record_signature_problem(
+        purpose=SIGNING_PURPOSE, message=sums_bytes, signature=signature
+    )
+    if problem:
+        raise ApplicationError(
+            f"The archive's {SUMS} is not vouched for: {problem}. It was edited after it was "
+            "written, or written by another shop; nothing was restored.",
+            code="archive_signature",
+            extra={"member": SIGNATURE},
+        )
 
-    Refuses, naming the member, when a member is damaged, altered, missing or not listed.
+
+def _name_problem(name: str) -> str | None:
+    """Why `name` is not a plain relative path of printable segments, or None."""
+    segments = name.split("/")
+    if not name or len(name) > MEMBER_NAME_MAX:
+        return f"its name is empty or longer than {MEMBER_NAME_MAX} characters"
+    if "\\" in name or ":" in name:
+        return "its name holds a backslash or a colon"
+    if any(not character.isprintable() for character in name):
+        return "its name holds a control character"
+    if name.startswith("/") or any(part in {"", ".", ".."} for part in segments):
+        return "its name is not a plain relative path"
+    return None
+
+
+def backup_verify(
+    *, path: Path, using: str = DEFAULT_DB_ALIAS, progress: Progress = _quiet
+) -> dict:
+    """Run every check a restore runs, without writing anything; return the manifest.
+
+    Refuses, naming the member, what a restore would refuse: a missing or wrong signature, a
+    member damaged, altered, missing, unlisted, oversized or oddly named, another schema, and
+    any row the API would refuse. Only the references between rows and the emptiness of the
+    database wait for the restore itself.
     """
     with _open_archive(Path(path)) as archive:
-        manifest, _ = _verified(archive, progress)
+        manifest, sums = _verified(archive, progress)
+        _check_schema(manifest, using)
+        rows = 0
+        for entry in manifest["models"]:
+            model = _model_of(entry)
+            rows += sum(1 for _ in _records(archive, entry, sums, model, manifest, using))
+        progress(f"Checked all {rows} rows as the API would")
     return manifest
 
 
 def _verified(archive: zipfile.ZipFile, progress: Progress) -> tuple[dict, dict[str, str]]:
-    """The manifest and the sums of an archive whose every member matches its sum."""
-    sums = _read_sums(archive)
+    """The manifest and the sums of a signed archive whose every member matches its sum."""
     names = archive.namelist()
-    unlisted = sorted(set(names) - set(sums) - {SUMS})
+    for name in names:
+        problem = _name_problem(name)
+        if problem:
+            raise _refused(name, problem)
+    sums, sums_bytes = _read_sums(archive)
+    _check_signature(archive, sums_bytes)
+    unlisted = sorted(set(names) - set(sums) - {SUMS, SIGNATURE})
     if unlisted or len(names) != len(set(names)):
         member = unlisted[0] if unlisted else next(n for n in names if names.count(n) > 1)
         raise _damaged(member, ValueError(f"the member is not listed once in {SUMS}"))
     missing = sorted(set(sums) - set(names))
     if missing:
         raise _damaged(missing[0], ValueError(f"{SUMS} lists it but the archive lacks it"))
+    for member in sums:
+        _size_problem(archive, member)
     for count, member in enumerate(sorted(sums), start=1):
         if _member_sha256(archive, member) != sums[member]:
             raise _damaged(member, ValueError(f"its SHA-256 differs from {SUMS}"))
         if count % PROGRESS_FILES == 0:
             progress(f"  checked {count} of {len(sums)} members")
-    progress(f"Checked the SHA-256 of all {len(sums)} members")
+    progress(f"Checked the signature and the SHA-256 of all {len(sums)} members")
     try:
-        manifest = json.loads(archive.read(MANIFEST))
+        manifest = json.loads(_read_small(archive, MANIFEST))
         _check_manifest(manifest, sums)
     except (KeyError, TypeError, AttributeError, ValueError) as exc:
         raise _damaged(MANIFEST, exc) from exc
+    for entry in manifest["models"] + manifest["media"]:
+        _size_problem(archive, entry["member"], entry["bytes"])
     return manifest, sums
 
 
 def _check_manifest(manifest: dict, sums: dict[str, str]) -> None:
-    """Refuse another format, and a manifest that does not account for exactly the members."""
+    """Refuse another format, a manifest that does not account for exactly the members, models
+    that no archive carries, and an archive dated in the future."""
     if manifest.get("format") != FORMAT or manifest.get("version") != FORMAT_VERSION:
         raise ApplicationError(
             f"The archive is format {manifest.get('format')!r} version "
@@ -439,16 +617,27 @@ def _check_manifest(manifest: dict, sums: dict[str, str]) -> None:
     if sorted([*listed, MANIFEST]) != sorted(sums):
         raise ValueError(f"it does not list exactly the members in {SUMS}")
     for entry in manifest["media"]:
-        name = entry["name"]
-        if (
-            entry["member"] != MEDIA_PREFIX + name
-            or name.startswith("/")
-            or ".." in name.split("/")
-        ):
+        if entry["member"] != MEDIA_PREFIX + entry["name"]:
             raise ValueError(f"{entry['member']} does not name a plain relative path")
+        int(entry["bytes"])
     for entry in manifest["models"]:
         int(entry["records"])
+        int(entry["bytes"])
+        if _kept_out(entry["model"]):
+            raise _refused(
+                entry["member"],
+                f"it holds {entry['model']} rows: sign-in secrets and records no backup carries",
+            )
     dict(manifest["migrations"])
+    if _written_at(manifest) > datetime.now(UTC) + CLOCK_SKEW:
+        raise ValueError(f"it says it was written at {manifest['created_at']}, in the future")
+
+
+def _written_at(manifest: dict) -> datetime:
+    written = datetime.fromisoformat(manifest["created_at"])
+    if written.tzinfo is None:
+        raise ValueError("its created_at carries no time zone")
+    return written
 
 
 def _check_schema(manifest: dict, using: str) -> None:
@@ -501,47 +690,104 @@ def _files_to_write(manifest: dict, archive: zipfile.ZipFile, storage: Storage) 
     return wanted
 
 
-def _load_model(archive, entry: dict, sums: dict, using: str, progress: Progress) -> type[Model]:
-    member, label = entry["member"], entry["model"]
+def _model_of(entry: dict) -> type[Model]:
     try:
-        model = apps.get_model(label)
-    except LookupError:
+        return apps.get_model(entry["model"])
+    except (LookupError, ValueError):
         raise ApplicationError(
-            f"The archive holds records of {label}, which this release does not have.",
+            f"The archive holds records of {entry['model']}, which this release does not have.",
             code="schema_mismatch",
         ) from None
-    count = 0
-    with archive.open(member) as raw:
-        reader = _HashingReader(raw)
+
+
+def _lines(stream, member: str):
+    """The member's lines, refusing one longer than BACKUP_MAX_ROW_BYTES before it is read."""
+    limit = settings.BACKUP_MAX_ROW_BYTES
+    while line := stream.readline(limit + 1):
+        if len(line) > limit:
+            raise _refused(member, f"one of its rows is longer than BACKUP_MAX_ROW_BYTES ({limit})")
+        yield line
+
+
+def _row_problem(obj: Model, not_after: datetime) -> str | None:
+    """Why the API would refuse this row (field limits, choices, validators, dates), or None.
+
+    References are left to the database's own checks at restore, which see every row.
+    """
+    fields = obj._meta.concrete_fields
+    try:
+        obj.clean_fields(exclude=[f.name for f in fields if f.is_relation])
+    except ValidationError as exc:
+        return "; ".join(
+            f"{name}: {' '.join(messages)}" for name, messages in exc.message_dict.items()
+        )
+    for f in fields:
+        value = getattr(obj, f.attname)
+        # Model validation leaves a TextField's max_length to forms; the API holds to it.
+        if isinstance(value, str) and f.max_length and len(value) > f.max_length:
+            return f"{f.name}: Ensure this value has at most {f.max_length} characters"
+        if isinstance(value, datetime) and value > not_after:
+            return f"{f.name}: {value.isoformat()} is after the archive was written"
+    return None
+
+
+def _records(archive, entry: dict, sums: dict, model: type[Model], manifest: dict, using: str):
+    """Every row of one member, deserialized and checked as the API would check it."""
+    member, label = entry["member"], entry["model"]
+    not_after = _written_at(manifest) + CLOCK_SKEW
+    seen: set = set()
+    with _open_member(archive, member) as capped:
+        reader = _HashingReader(capped)
         stream = io.TextIOWrapper(io.BufferedReader(reader, COPY_BLOCK), encoding="utf-8")
+        count = 0
         try:
-            for item in serializers.deserialize("jsonl", stream, using=using):
-                if type(item.object) is not model:
+            for item in serializers.deserialize("jsonl", _lines(stream, member), using=using):
+                obj = item.object
+                if type(obj) is not model:
                     raise DeserializationError(
-                        f"it holds a {item.object._meta.label_lower} row among {label} rows"
+                        f"it holds a {obj._meta.label_lower} row among {label} rows"
                     )
-                # Raw insert through Model.save_base: append-only models refuse save() on
-                # existing rows, but a restore only ever adds new ones.
-                item.save(using=using, force_insert=True)
+                if obj.pk in seen:
+                    raise _refused(member, f"it holds the {label} id {obj.pk} twice")
+                seen.add(obj.pk)
+                problem = _row_problem(obj, not_after)
+                if problem:
+                    raise _refused(member, f"{label} row {obj.pk}: {problem}")
                 count += 1
-                if count % PROGRESS_ROWS == 0:
-                    progress(f"  {label}: {count} of {entry['records']} records")
-        except (DeserializationError, DatabaseError) as exc:
-            raise ApplicationError(
-                f"Could not load {member}: {exc}. Nothing was restored.", code="archive_invalid"
-            ) from exc
+                yield item
+        except (DeserializationError, UnicodeDecodeError) as exc:
+            raise _refused(member, f"could not read it ({exc})") from exc
     if reader.sha256.hexdigest() != sums[member] or count != entry["records"]:
-        raise _damaged(member, ValueError("it changed while being restored"))
+        raise _damaged(member, ValueError("it changed while being read"))
+
+
+def _load_model(archive, entry: dict, sums: dict, manifest: dict, using: str, progress):
+    label = entry["model"]
+    model = _model_of(entry)
+    count = 0
+    try:
+        for item in _records(archive, entry, sums, model, manifest, using):
+            # Raw insert through Model.save_base: append-only models refuse save() on
+            # existing rows, but a restore only ever adds new ones.
+            item.save(using=using, force_insert=True)
+            count += 1
+            if count % PROGRESS_ROWS == 0:
+                progress(f"  {label}: {count} of {entry['records']} records")
+    except DatabaseError as exc:
+        raise ApplicationError(
+            f"Could not load {entry['member']}: {exc}. Nothing was restored.",
+            code="archive_invalid",
+        ) from exc
     progress(f"  {label}: {_records_text(count)}")
     return model
 
 
 def _write_file(archive, entry: dict, sums: dict, storage: Storage) -> None:
     with tempfile.TemporaryFile() as spool:
-        with archive.open(entry["member"]) as raw:
+        with _open_member(archive, entry["member"]) as raw:
             sink = _HashingWriter(spool)
             _copy(raw, sink)
-        if sink.sha256.hexdigest() != sums[entry["member"]]:
+        if sink.sha256.hexdigest() != sums[entry["member"]] or sink.size != entry["bytes"]:
             raise _damaged(entry["member"], ValueError("it changed while being restored"))
         spool.seek(0)
         stored = storage.save(entry["name"], File(spool))
@@ -582,7 +828,7 @@ def backup_restore(
                     apps.get_model(label)._base_manager.using(using).all().delete()
                 loaded = []
                 for entry in manifest["models"]:
-                    loaded.append(_load_model(archive, entry, sums, using, progress))
+                    loaded.append(_load_model(archive, entry, sums, manifest, using, progress))
                     summary.records[entry["model"]] = entry["records"]
                 with connection.cursor() as cursor:
                     for sql in connection.ops.sequence_reset_sql(no_style(), loaded):

@@ -33,3 +33,25 @@ class AuditEvent(AppendOnly):
 
     def __str__(self) -> str:
         return f"{self.at:%Y-%m-%d %H:%M} {self.action} {self.object_type}:{self.object_id}"
+
+
+class ApiToken(models.Model):
+    """An API token, kept only as the SHA-256 of its key: the key itself is shown once.
+
+    `password_stamp` is the owner's session hash when the token was issued (Django's
+    `get_session_auth_hash`, keyed by SECRET_KEY): a password change alters it, which ends the
+    token as it ends the owner's browser sessions.
+    """
+
+    key_sha256 = models.CharField(max_length=64, unique=True)
+    user = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="api_tokens"
+    )
+    created = models.DateTimeField(default=timezone.now)
+    password_stamp = models.CharField(max_length=128)
+
+    class Meta:
+        ordering = ["-created", "-id"]
+
+    def __str__(self) -> str:
+        return f"token of {self.user_id} issued {self.created:%Y-%m-%d %H:%M}"

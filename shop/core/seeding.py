@@ -39,6 +39,7 @@ from django.utils import timezone
 from reports.canonical import canonical_json, sha256_hex
 from reports.models import Certificate, CertificateNumberCounter
 from reports.services import verification_code
+from reports.signing import certificate_sign
 from reports.snapshot import build_certificate_snapshot
 from shop.bench import judging
 from shop.bench import services as bench_services
@@ -710,6 +711,10 @@ class _Seeder:
                         issued_at=issued[i],
                         snapshot=snapshot,
                         sha256=sha256_hex(snapshot),
+                        # No PDF is rendered for a seeded certificate.
+                        signature=certificate_sign(
+                            number=numbers[i], snapshot=snapshot, pdf_sha256=""
+                        ),
                         verification_code=code,
                     )
                 )

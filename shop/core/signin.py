@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+from axes.handlers.database import AxesDatabaseHandler
+from axes.helpers import get_client_username, get_failure_limit
+from axes.models import AccessAttempt
 from django.conf import settings
 from django.core.exceptions import ImproperlyConfigured
+from django.db.models import Sum
 from django.http import JsonResponse
 from django.utils import timezone
 from rest_framework import status
@@ -81,3 +85,28 @@ def lockout_response(request, original_response=None, credentials=None) -> JsonR
     )
     response["Retry-After"] = str(error.extra["retry_after"])
     return response
+
+
+class ShopLockoutHandler(AxesDatabaseHandler):
+    """django-axes' database handler plus a lockout of a user name across all addresses.
+
+    Axes counts failures per (user name, address) against AXES_FAILURE_LIMIT. Here a user name
+    whose failures from all addresses together reach LOGIN_USERNAME_FAILURE_LIMIT within the
+    cool-off counts as having reached the limit at every address.
+    """
+
+    def get_failures(self, request, credentials=None) -> int:
+        failures = super().get_failures(request, credentials)
+        username = get_client_username(request, credentials)
+        if username is None:
+            return failures
+        since = timezone.now() - settings.AXES_COOLOFF_TIME
+        everywhere = (
+            AccessAttempt.objects.filter(username=username, attempt_time__gte=since).aggregate(
+                total=Sum("failures_since_start")
+            )["total"]
+            or 0
+        )
+        if everywhere >= settings.LOGIN_USERNAME_FAILURE_LIMIT:
+            return max(failures, get_failure_limit(request, credentials))
+        return failures

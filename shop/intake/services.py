@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import hashlib
-from datetime import date
+from datetime import UTC, date, datetime, timedelta
 
 from django.conf import settings
 from django.core.exceptions import ValidationError
@@ -32,6 +32,10 @@ from .models import (
 from .sniffing import SNIFF_BYTES, UnacceptableFile, sniff
 from .workflow import allowed_targets, role_may_move_to
 
+# A repair step's time: not before this (no shop kept records on this service earlier), and
+# not later than now plus a little clock difference between the bench's device and the server.
+PERFORMED_AT_FLOOR = datetime(2000, 1, 1, tzinfo=UTC)
+PERFORMED_AT_SKEW = timedelta(minutes=5)
 CUSTOMER_FIELDS = ("name", "phone", "email", "notes")
 UNIT_FIELDS = (
     "owner",
@@ -303,6 +307,17 @@ def repair_step_add(
     corrects: RepairStep | None = None,
 ) -> RepairStep:
     """Append a repair step; a correction names the step it corrects, on the same job."""
+    now = timezone.now()
+    if performed_at is not None and not (
+        PERFORMED_AT_FLOOR <= performed_at <= now + PERFORMED_AT_SKEW
+    ):
+        raise ApplicationError(
+            f"performed_at {performed_at.isoformat()} is out of range: give a time from "
+            f"{PERFORMED_AT_FLOOR:%Y-%m-%d} up to now (the server's clock reads "
+            f"{now:%Y-%m-%d %H:%M} UTC), or leave it out for now.",
+            field="performed_at",
+            code="out_of_range",
+        )
     if corrects is not None and corrects.job_id != job.pk:
         raise ApplicationError(
             "A correction must refer to a step of the same job.", field="corrects"
@@ -319,7 +334,7 @@ def repair_step_add(
         action=action,
         parts=parts or [],
         minutes=minutes,
-        performed_at=performed_at or timezone.now(),
+        performed_at=performed_at or now,
         corrects=corrects,
     )
     step.full_clean()

@@ -35,6 +35,20 @@ if not SECRET_KEY:
         )
     SECRET_KEY = "dev-only-insecure-key-never-use-in-production"  # noqa: S105
 
+# The key that signs certificates and backup manifests (shop.core.signing). It lives here, in
+# the environment, never in the database or a backup, so that an edited record or archive
+# cannot be re-signed. Keep it apart from SECRET_KEY; on a rotation list the former key in
+# RECORD_SIGNING_OLD_KEYS so that what it signed still verifies.
+RECORD_SIGNING_KEY = os.environ.get("RECORD_SIGNING_KEY", "")
+RECORD_SIGNING_OLD_KEYS = env_list("RECORD_SIGNING_OLD_KEYS")
+if not RECORD_SIGNING_KEY:
+    if not DEBUG:
+        raise ImproperlyConfigured(
+            "RECORD_SIGNING_KEY is not set. Set it in the environment to a long random secret "
+            "kept apart from the database and its backups (or DEBUG=1 for local development)."
+        )
+    RECORD_SIGNING_KEY = "dev-only-insecure-record-signing-key"  # noqa: S105
+
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", "127.0.0.1,localhost" if DEBUG else "")
 
 INSTALLED_APPS = [
@@ -45,7 +59,6 @@ INSTALLED_APPS = [
     "django.contrib.messages",
     "django.contrib.staticfiles",
     "rest_framework",
-    "rest_framework.authtoken",
     "django_filters",
     "drf_spectacular",
     "drf_spectacular_sidecar",
@@ -127,6 +140,17 @@ if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
 
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
+# The cache every app process shares with no extra service: a table in the database, created by
+# `migrate` (shop.core migration 0004). The per-address limits count there, so two workers
+# count together.
+CACHE_TABLE = "shop_cache"
+CACHES = {
+    "default": {
+        "BACKEND": "django.core.cache.backends.db.DatabaseCache",
+        "LOCATION": CACHE_TABLE,
+    }
+}
+
 # django-axes first: it refuses a locked-out sign-in before the password is checked.
 AUTHENTICATION_BACKENDS = [
     "axes.backends.AxesStandaloneBackend",
@@ -140,6 +164,11 @@ AXES_COOLOFF_TIME = timedelta(minutes=int(os.environ.get("LOGIN_LOCKOUT_MINUTES"
 # The pair, not the address alone: behind one proxy or shop router every caller shares an
 # address, and one person's typos must not lock out the whole shop.
 AXES_LOCKOUT_PARAMETERS = [["username", "ip_address"]]
+# Besides: after LOGIN_USERNAME_FAILURE_LIMIT failures for one user name from any addresses
+# together, that name is locked out everywhere (shop.core.signin.ShopLockoutHandler), so that
+# changing address does not buy more guesses.
+AXES_HANDLER = "shop.core.signin.ShopLockoutHandler"
+LOGIN_USERNAME_FAILURE_LIMIT = int(os.environ.get("LOGIN_USERNAME_FAILURE_LIMIT", "20"))
 AXES_RESET_ON_SUCCESS = True
 AXES_CLIENT_IP_CALLABLE = "shop.core.signin.client_address"
 AXES_LOCKOUT_CALLABLE = "shop.core.signin.lockout_response"
@@ -199,6 +228,10 @@ if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
 # Most readings one CSV import may carry (separate from the upload size limit).
 READINGS_CSV_MAX_ROWS = int(os.environ.get("READINGS_CSV_MAX_ROWS", "10000"))
+# Restore refuses an archive member that unpacks to more bytes than this (a zip bomb, a forged
+# size), and a single record (one JSON line) longer than BACKUP_MAX_ROW_BYTES.
+BACKUP_MAX_MEMBER_BYTES = int(os.environ.get("BACKUP_MAX_MEMBER_BYTES", str(8 * 1024**3)))
+BACKUP_MAX_ROW_BYTES = int(os.environ.get("BACKUP_MAX_ROW_BYTES", str(16 * 1024**2)))
 DATA_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 FILE_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
 

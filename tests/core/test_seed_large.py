@@ -11,6 +11,7 @@ from django.core.management import CommandError, call_command
 from reports.canonical import canonical_json, sha256_hex
 from reports.models import Certificate
 from reports.selectors import snapshot_intact
+from reports.signing import certificate_signature_problem
 from reports.snapshot import build_certificate_snapshot
 from shop.bench import judging
 from shop.bench.models import PowerUpTest, Reading, Verdict
@@ -84,6 +85,7 @@ def test_certificates_hash_right_and_state_what_an_issue_would(seeded):
     assert len({c.verification_code for c in certificates}) == CERTIFICATES
     for certificate in certificates:
         assert snapshot_intact(certificate)
+        assert certificate_signature_problem(certificate) is None
         assert certificate.sha256 == sha256_hex(certificate.snapshot)
         rebuilt = canonical_json(
             build_certificate_snapshot(

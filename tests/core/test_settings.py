@@ -11,7 +11,8 @@ ROOT = Path(__file__).resolve().parents[2]
 CLEAN_ENV = {
     k: v
     for k, v in os.environ.items()
-    if k not in {"DEBUG", "SECRET_KEY", "DJANGO_SETTINGS_MODULE", "ALLOWED_HOSTS"}
+    if k
+    not in {"DEBUG", "SECRET_KEY", "RECORD_SIGNING_KEY", "DJANGO_SETTINGS_MODULE", "ALLOWED_HOSTS"}
 }
 
 
@@ -32,6 +33,16 @@ def test_production_refuses_to_start_without_a_secret_key():
     assert "SECRET_KEY is not set" in result.stderr
 
 
+def test_production_refuses_to_start_without_a_record_signing_key():
+    result = manage(
+        "check",
+        DJANGO_SETTINGS_MODULE="shop.settings.production",
+        SECRET_KEY="a-long-random-production-secret-" + "x7Kq2" * 10,
+    )
+    assert result.returncode != 0
+    assert "RECORD_SIGNING_KEY is not set" in result.stderr
+
+
 def test_deploy_check_is_clean_with_production_variables():
     result = manage(
         "check",
@@ -40,6 +51,7 @@ def test_deploy_check_is_clean_with_production_variables():
         "WARNING",
         DJANGO_SETTINGS_MODULE="shop.settings.production",
         SECRET_KEY="a-long-random-production-secret-" + "x7Kq2" * 10,
+        RECORD_SIGNING_KEY="a-long-random-record-signing-key-" + "p3Wz8" * 10,
         ALLOWED_HOSTS="bench.example.org",
     )
     assert result.returncode == 0, result.stdout + result.stderr

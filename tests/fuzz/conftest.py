@@ -14,11 +14,11 @@ from django.core.handlers.wsgi import WSGIHandler
 from django.core.management import call_command
 from django.core.signals import request_finished, request_started
 from django.db import close_old_connections
-from rest_framework.authtoken.models import Token
 from rest_framework.test import APIClient
 
 from reports.models import Certificate
 from shop.bench.models import PowerUpTest, Rig, TestStatus
+from shop.core.authentication import token_create
 from shop.intake.models import Job, JobState
 
 from .content import pdf_document, png_image
@@ -130,7 +130,7 @@ def demo_shop(db, settings):
 def role_tokens(demo_shop):
     """{"lead": "Token ...", ...}: an Authorization header value for each role's demo user."""
     return {
-        role: f"Token {Token.objects.get_or_create(user=User.objects.get(username=name))[0].key}"
+        role: f"Token {token_create(user=User.objects.get(username=name))[1]}"
         for role, name in DEMO_USER_BY_ROLE.items()
     }
 

@@ -35,7 +35,7 @@ ROWS_IN_LARGE_CSV = 100_000
 KEPT_TEXT = "Zoë 🎸👩🏽‍🔧 \u200fشاي\u200e \u202eevil\u202c e\u0301\u0323 \ufeff\u200b!"
 REFUSED_TEXT = {"NUL": "before\x00after", "lone surrogate": "before\ud800after"}
 UNIT_BODY = {"category": "radio", "maker": "Brightwave", "rated_voltage": 120, "rated_power": 60}
-APPS_WITH_RECORDS = ("intake", "bench", "reports", "core", "authtoken")
+APPS_WITH_RECORDS = ("intake", "bench", "reports", "core")
 
 
 def record_counts() -> dict[str, int]:

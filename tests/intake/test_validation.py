@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+from datetime import timedelta
+
 import pytest
+from django.utils import timezone
 
 from shop.intake.models import Customer, Job, Unit
 
@@ -99,6 +102,30 @@ def test_a_bad_part_is_named_by_its_position(job, client_for):
     )
     assert response.status_code == 400
     assert set(response.json()["error"]["fields"]) == {"parts.1.part", "parts.1.quantity"}
+
+
+@pytest.mark.parametrize(
+    "performed_at", ["1900-01-01T10:00:00Z", "1999-12-31T23:59:00Z", "2099-01-01T10:00:00Z"]
+)
+def test_a_step_time_long_past_or_in_the_future_is_refused_by_name(job, client_for, performed_at):
+    response = client_for("technician").post(
+        "/api/steps/",
+        {"job": job.pk, "action": "Checked fuse", "performed_at": performed_at},
+        format="json",
+    )
+    assert response.status_code == 400, response.content
+    assert response.json()["error"]["field"] == "performed_at"
+    assert not job.steps.exists()
+
+
+def test_a_step_time_within_the_clock_skew_or_earlier_today_is_accepted(job, client_for):
+    for moment in (timezone.now() + timedelta(minutes=4), timezone.now() - timedelta(hours=3)):
+        response = client_for("technician").post(
+            "/api/steps/",
+            {"job": job.pk, "action": "Checked fuse", "performed_at": moment.isoformat()},
+            format="json",
+        )
+        assert response.status_code == 201, response.content
 
 
 def test_a_job_unit_cannot_be_swapped(job, customer, client_for, staff):

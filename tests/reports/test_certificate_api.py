@@ -9,9 +9,10 @@ import pytest
 from django.core.management import call_command
 from django.core.management.base import CommandError
 from django.db import connection
+from django.test.utils import CaptureQueriesContext
 from pypdf import PdfReader
 
-from reports import services
+from reports import selectors, services
 from reports.models import Certificate
 
 ROLES = ["front_desk", "technician", "lead", "nobody", None]
@@ -149,6 +150,25 @@ def test_a_wrong_code_and_an_unknown_number_answer_alike(certificate, client_for
     assert {k: v for k, v in wrong.json().items() if k not in strip} == {
         k: v for k, v in unknown.json().items() if k not in strip
     }
+
+
+def test_a_wrong_code_costs_what_an_unknown_number_costs(certificate, monkeypatch):
+    """Same queries and one comparison of the same length on both paths: nothing to time."""
+    compared = []
+    real_compare = selectors.hmac.compare_digest
+
+    def recording_compare(a, b):
+        compared.append((len(a), len(b)))
+        return real_compare(a, b)
+
+    monkeypatch.setattr(selectors.hmac, "compare_digest", recording_compare)
+    wrong_code = "ABCDE-FGHIJ-KLMNO-PQRST-UVWX"
+    with CaptureQueriesContext(connection) as known:
+        assert selectors.certificate_for_verification(certificate.number, wrong_code) is None
+    with CaptureQueriesContext(connection) as unknown:
+        assert selectors.certificate_for_verification("C-1999-0001", wrong_code) is None
+    assert len(known.captured_queries) == len(unknown.captured_queries) == 1
+    assert compared == [(len(certificate.verification_code), len(wrong_code))] * 2
 
 
 def test_the_verification_page_is_html_for_browsers(certificate, client_for):

@@ -2,20 +2,30 @@
 
 from __future__ import annotations
 
-from datetime import timedelta
+import hashlib
+import importlib
+from datetime import UTC, datetime, timedelta
+from types import SimpleNamespace
 
 import pytest
+from django.apps import apps as django_apps
+from django.contrib.auth.models import User
+from django.db import connection
+from django.test import Client
 from django.utils import timezone
 from django.utils.dateparse import parse_datetime
-from rest_framework.authtoken.models import Token
 
-from .conftest import sign_in, token_client
+from shop.core.authentication import token_create
+from shop.core.models import ApiToken
+
+from .conftest import PASSWORD, sign_in, token_client
 
 JOBS = "/api/jobs/"
+TOKEN_MIGRATION = importlib.import_module("shop.core.migrations.0003_api_token_hashed")
 
 
 def age_token(user, hours: float) -> None:
-    Token.objects.filter(user=user).update(created=timezone.now() - timedelta(hours=hours))
+    ApiToken.objects.filter(user=user).update(created=timezone.now() - timedelta(hours=hours))
 
 
 def test_a_token_is_issued_with_its_expiry_and_opens_the_api(anonymous, staff):
@@ -48,7 +58,7 @@ def test_a_wrong_password_gets_no_token_and_the_error_shape(anonymous, staff):
     response = sign_in(anonymous, "tech_theo", "wrong-password")
     assert response.status_code == 400
     assert response.json()["error"]["code"] == "invalid"
-    assert not Token.objects.filter(user=staff["technician"]).exists()
+    assert not ApiToken.objects.filter(user=staff["technician"]).exists()
 
 
 def test_an_expired_token_is_refused_with_401_and_the_error_shape(anonymous, staff):
@@ -111,3 +121,84 @@ def test_revoking_the_tokens_of_an_unknown_user_is_a_404(client_for):
     response = client_for("lead").post("/api/auth/users/987654/token/revoke/")
     assert response.status_code == 404
     assert response.json()["error"]["code"] == "not_found"
+
+
+def test_a_token_key_is_stored_only_as_its_sha256(anonymous, staff):
+    key = sign_in(anonymous, "tech_theo").json()["token"]
+    row = ApiToken.objects.get(user=staff["technician"])
+    assert row.key_sha256 == hashlib.sha256(key.encode()).hexdigest()
+    stored = " ".join(str(value) for value in ApiToken.objects.values_list().get())
+    assert key not in stored
+
+
+def test_a_stored_hash_used_as_a_key_is_refused(anonymous, staff):
+    sign_in(anonymous, "tech_theo")
+    stored = ApiToken.objects.get(user=staff["technician"]).key_sha256
+    assert token_client(stored).get(JOBS).status_code == 401
+
+
+def test_a_token_dated_in_the_future_is_refused(staff):
+    token, key = token_create(user=staff["technician"])
+    ApiToken.objects.filter(pk=token.pk).update(created=datetime(2099, 1, 1, tzinfo=UTC))
+    response = token_client(key).get(JOBS)
+    assert response.status_code == 401
+    assert "future" in response.json()["error"]["message"]
+
+
+def test_upgrading_hashes_the_plain_text_keys_of_the_former_token_table(staff):
+    key = "0123456789abcdef0123456789abcdef01234567"
+    with connection.cursor() as cursor:
+        cursor.execute(
+            "CREATE TABLE authtoken_token (key varchar(40) PRIMARY KEY, created timestamp "
+            "with time zone NOT NULL, user_id bigint NOT NULL)"
+        )
+        cursor.execute(
+            "INSERT INTO authtoken_token (key, created, user_id) VALUES (%s, %s, %s)",
+            [key, timezone.now(), staff["technician"].pk],
+        )
+    # The step reads only these two of a schema editor (SQLite opens no real one mid-test).
+    editor = SimpleNamespace(connection=connection, quote_name=connection.ops.quote_name)
+    TOKEN_MIGRATION.hash_plain_text_keys(django_apps, editor)
+    with connection.cursor() as cursor:
+        cursor.execute("SELECT count(*) FROM authtoken_token")
+        assert cursor.fetchone() == (0,)
+    assert token_client(key).get(JOBS).status_code == 200
+    assert key not in str(list(ApiToken.objects.values_list()))
+
+
+def session_client(username: str) -> Client:
+    browser = Client()
+    response = browser.post("/api/auth/login/", {"username": username, "password": PASSWORD})
+    assert response.status_code == 302, response.content
+    assert browser.get(JOBS).status_code == 200
+    return browser
+
+
+def test_a_lead_revoking_a_users_keys_ends_their_browser_sessions_too(staff, client_for):
+    browser = session_client("tech_theo")
+    colleague = session_client("desk_dana")
+    response = client_for("lead").post(f"/api/auth/users/{staff['technician'].pk}/token/revoke/")
+    assert response.status_code == 200
+    assert browser.get(JOBS).status_code in (401, 403)
+    assert colleague.get(JOBS).status_code == 200
+
+
+def test_revoking_ones_own_keys_signs_out_every_browser_too(anonymous, staff):
+    browser = session_client("tech_theo")
+    key = sign_in(anonymous, "tech_theo").json()["token"]
+    assert token_client(key).post("/api/auth/token/revoke/").json() == {"revoked": 1}
+    assert browser.get(JOBS).status_code in (401, 403)
+
+
+def test_a_password_change_ends_the_users_api_tokens_and_sessions(anonymous, staff):
+    browser = session_client("tech_theo")
+    key = sign_in(anonymous, "tech_theo").json()["token"]
+    technician = User.objects.get(pk=staff["technician"].pk)
+    technician.set_password("a-new-pw-after-a-leak-7")
+    technician.save()
+    response = token_client(key).get(JOBS)
+    assert response.status_code == 401
+    assert "password changed" in response.json()["error"]["message"]
+    assert browser.get(JOBS).status_code in (401, 403)
+    fresh = sign_in(anonymous, "tech_theo", "a-new-pw-after-a-leak-7").json()["token"]
+    assert token_client(fresh).get(JOBS).status_code == 200

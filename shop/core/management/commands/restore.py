@@ -14,7 +14,7 @@ from shop.core.errors import ApplicationError
 class Command(BaseCommand):
     help = (
         "Restore an archive written by `manage.py backup` into an empty, migrated database. "
-        "Every member's SHA-256 is checked before anything is loaded."
+        "Its signature and every member's SHA-256 are checked before anything is loaded."
     )
 
     def add_arguments(self, parser):
@@ -22,7 +22,8 @@ class Command(BaseCommand):
         parser.add_argument(
             "--verify-only",
             action="store_true",
-            help="check every member's SHA-256 and stop without touching the database",
+            help="run every check a restore runs (signature, SHA-256, sizes, names, schema, "
+            "each row) and stop without writing anything",
         )
         parser.add_argument("--database", default=DEFAULT_DB_ALIAS, help="database alias")
 
@@ -30,7 +31,9 @@ class Command(BaseCommand):
         path = options["archive"]
         try:
             if options["verify_only"]:
-                manifest = backup_verify(path=path, progress=self.stdout.write)
+                manifest = backup_verify(
+                    path=path, using=options["database"], progress=self.stdout.write
+                )
                 self.stdout.write(
                     self.style.SUCCESS(
                         f"{path} is intact: {len(manifest['models'])} models, "
