@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import math
 from datetime import UTC, date, datetime
-from xml.sax.saxutils import escape
+
+from .fonts import runs
 
 CURRENT_SIGNIFICANT_DIGITS = 3
 NOT_RECORDED = "not recorded"
@@ -27,10 +28,11 @@ BEHAVIOUR_WORDS = {"steady": "steady", "flash_then_dims": "flash, then dim", "cy
 
 
 def text(value) -> str:
-    """Free text made safe for reportlab's paragraph mark-up; line breaks kept."""
+    """Free text made safe for reportlab's paragraph mark-up; line breaks kept, each script
+    set in a face that has it and right-to-left words in display order (fonts.runs)."""
     if value is None or value == "":
         return NOT_RECORDED
-    return escape(str(value)).replace("\n", "<br/>")
+    return runs(str(value))
 
 
 def volts(value) -> str:
