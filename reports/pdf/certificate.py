@@ -59,8 +59,10 @@ INSTRUMENT_HEADER = [
     "Calibration due",
     "Calibration state",
 ]
-WORK_COLUMNS = (0.13, 0.36, 0.29, 0.14, 0.08)
-WORK_HEADER = ["Date", "Work done", "Parts", "By", "Time"]
+WORK_COLUMNS = (0.14, 0.58, 0.18, 0.10)
+WORK_HEADER = ["Date", "Work done", "By", "Time"]
+PARTS_COLUMNS = (0.14, 0.12, 0.40, 0.34)
+PARTS_HEADER = ["Step of", "Quantity", "Part", "Note"]
 
 
 def render_certificate(snapshot: dict) -> bytes:
@@ -90,7 +92,7 @@ def render_certificate(snapshot: dict) -> bytes:
     story.append(Paragraph("Outcome", STYLES["heading"]))
     for index, test in enumerate(tests, start=1):
         story += [_outcome(test, index, len(tests), width), Spacer(1, 4)]
-    story += [_unit_and_job(snapshot, width), *_work_done(snapshot["work_done"], width)]
+    story += [*_unit_and_job(snapshot, width), *_work_done(snapshot["work_done"], width)]
     for index, test in enumerate(tests, start=1):
         story += _test(test, index, len(tests), width)
     story += _caveats(snapshot, width)
@@ -154,10 +156,11 @@ def _sentence(words: str) -> str:
     return words[:1].upper() + words[1:]
 
 
-def _unit_and_job(snapshot: dict, width: float) -> Table:
+def _unit_and_job(snapshot: dict, width: float) -> list:
+    """The unit, then the customer and job, one under the other so that a long value (a
+    4,000-character complaint) can run on to the next page."""
     unit = snapshot["unit"]
     job = snapshot["job"]
-    half = (width - 8 * mm) / 2
     unit_rows = [
         ("Unit", f"<b>{text(fmt.unit_name(unit))}</b>"),
         ("Category", text(unit.get("category"))),
@@ -174,43 +177,26 @@ def _unit_and_job(snapshot: dict, width: float) -> Table:
         ("Received", fmt.day(job.get("received_on"))),
         ("Complaint", text(job.get("complaint"))),
     ]
-    table = Table(
+    return [
+        Paragraph("The unit", STYLES["subheading"]),
+        key_value_table(unit_rows, width, LABEL_WIDTH),
+        Paragraph("Customer and job", STYLES["subheading"]),
+        key_value_table(job_rows, width, LABEL_WIDTH),
+    ]
+
+
+def _part_rows(steps: list[dict]) -> list[list]:
+    """One row per part used, in step order: a step with a hundred parts splits between them."""
+    return [
         [
-            [
-                [
-                    Paragraph("The unit", STYLES["subheading"]),
-                    key_value_table(unit_rows, half, LABEL_WIDTH),
-                ],
-                [
-                    Paragraph("Customer and job", STYLES["subheading"]),
-                    key_value_table(job_rows, half, LABEL_WIDTH),
-                ],
-            ]
-        ],
-        colWidths=[half + 8 * mm, half],
-    )
-    table.setStyle(
-        TableStyle(
-            [
-                ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("LEFTPADDING", (0, 0), (-1, -1), 0),
-                ("RIGHTPADDING", (0, 0), (-1, -1), 0),
-            ]
-        )
-    )
-    return table
-
-
-def _parts(parts: list[dict]) -> str:
-    if not parts:
-        return "none"
-    lines = []
-    for part in parts:
-        line = f"{text(part.get('quantity'))} x {text(part.get('part'))}"
-        if part.get("note"):
-            line += f" ({text(part['note'])})"
-        lines.append(line)
-    return "<br/>".join(lines)
+            Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
+            Paragraph(text(part.get("quantity")), STYLES["cell"]),
+            Paragraph(text(part.get("part")), STYLES["cell"]),
+            Paragraph(text(part["note"]) if part.get("note") else "", STYLES["cell"]),
+        ]
+        for step in steps
+        for part in step.get("parts") or []
+    ]
 
 
 def _work_done(steps: list[dict], width: float) -> list:
@@ -221,13 +207,19 @@ def _work_done(steps: list[dict], width: float) -> list:
         [
             Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
             Paragraph(text(step.get("action")), STYLES["cell"]),
-            Paragraph(_parts(step.get("parts") or []), STYLES["cell"]),
             Paragraph(text(step.get("technician")), STYLES["cell"]),
             f"{step['minutes']} min" if step.get("minutes") is not None else "",
         ]
         for step in steps
     ]
-    return [heading, data_table(WORK_HEADER, rows, [width * f for f in WORK_COLUMNS])]
+    flowables = [heading, data_table(WORK_HEADER, rows, [width * f for f in WORK_COLUMNS])]
+    parts = _part_rows(steps)
+    flowables.append(Paragraph("Parts used", STYLES["subheading"]))
+    if parts:
+        flowables.append(data_table(PARTS_HEADER, parts, [width * f for f in PARTS_COLUMNS]))
+    else:
+        flowables.append(Paragraph("No parts were recorded.", STYLES["body"]))
+    return flowables
 
 
 def _override(label: str, override) -> Paragraph:
