@@ -106,6 +106,19 @@ def add_longest_steps(client, job) -> list[dict]:
     return steps
 
 
+def document_text(response, program: str, tmp_path) -> str:
+    """The PDF answer's text, squashed, once its pages are checked to keep inside the margins."""
+    assert response.status_code == 200
+    assert_inside_the_margins(body_of(response), program, tmp_path)
+    return squashed(body_of(response))
+
+
+def job_fields(job: Job) -> tuple[str, ...]:
+    job.refresh_from_db()
+    unit = job.unit
+    return (unit.owner.name, unit.maker, unit.model_name, unit.serial, job.complaint)
+
+
 def test_a_certificate_with_every_field_at_its_longest_is_issued_and_says_it_all(
     longest_job, client_for, pdftoppm, tmp_path
 ):
@@ -113,12 +126,8 @@ def test_a_certificate_with_every_field_at_its_longest_is_issued_and_says_it_all
     response = client_for("lead").post("/api/certificates/", {"job": longest_job.pk}, format="json")
     assert response.status_code == 201, response.content[:500]
     pdf = client_for("lead").get(f"/api/certificates/{response.json()['id']}/pdf/")
-    assert pdf.status_code == 200
-    text = squashed(body_of(pdf))
-    assert_inside_the_margins(body_of(pdf), pdftoppm, tmp_path)
-    longest_job.refresh_from_db()
-    unit = longest_job.unit
-    for words in (unit.owner.name, unit.maker, unit.model_name, unit.serial, longest_job.complaint):
+    text = document_text(pdf, pdftoppm, tmp_path)
+    for words in job_fields(longest_job):
         assert_in_order(words, text)
     for step in steps:
         assert_in_order(step["action"], text)
@@ -129,18 +138,7 @@ def test_a_certificate_with_every_field_at_its_longest_is_issued_and_says_it_all
 def test_a_receipt_with_every_field_at_its_longest_says_it_all(
     longest_job, client_for, pdftoppm, tmp_path
 ):
-    response = client_for("front_desk").get(f"/api/jobs/{longest_job.pk}/receipt.pdf")
-    assert response.status_code == 200
-    text = squashed(body_of(response))
-    assert_inside_the_margins(body_of(response), pdftoppm, tmp_path)
-    longest_job.refresh_from_db()
-    unit = longest_job.unit
-    for words in (
-        unit.owner.name,
-        unit.maker,
-        unit.model_name,
-        unit.serial,
-        unit.condition_notes,
-        longest_job.complaint,
-    ):
+    receipt = client_for("front_desk").get(f"/api/jobs/{longest_job.pk}/receipt.pdf")
+    text = document_text(receipt, pdftoppm, tmp_path)
+    for words in (*job_fields(longest_job), longest_job.unit.condition_notes):
         assert_in_order(words, text)
