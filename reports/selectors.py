@@ -10,7 +10,8 @@ from django.conf import settings
 from django.db.models import QuerySet
 
 from shop.core.errors import Conflict
-from shop.intake.models import Job
+from shop.core.stored_files import orphan_files
+from shop.intake.models import Evidence, Job
 
 from .canonical import sha256_hex
 from .models import Certificate, certificate_status
@@ -60,6 +61,20 @@ def pdf_intact(certificate: Certificate) -> bool:
 def certificate_intact(certificate: Certificate) -> bool:
     """Snapshot and stored PDF both as issued."""
     return snapshot_intact(certificate) and pdf_intact(certificate)
+
+
+def orphan_stored_files() -> list[str]:
+    """Stored certificate PDFs and evidence files that no record points at (left by a write
+    that died before its record was committed)."""
+    found = []
+    for model, field, folder in (
+        (Certificate, "pdf", "certificates"),
+        (Evidence, "file", "evidence"),
+    ):
+        storage = model._meta.get_field(field).storage
+        names = model.objects.values_list(field, flat=True).iterator(chunk_size=2000)
+        found += orphan_files(storage, folder, names)
+    return found
 
 
 def stored_pdf(certificate: Certificate) -> bytes:

@@ -17,6 +17,7 @@ from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
 from shop.core.roles import LEAD, has_role
+from shop.core.stored_files import file_written, removed_on_failure
 from shop.intake.models import Job, JobState
 
 from .canonical import canonical_json, sha256_hex
@@ -154,12 +155,9 @@ def _issue(
     )
     certificate.pdf_sha256 = hashlib.sha256(pdf).hexdigest()
     certificate.pdf.save(f"{number}.pdf", ContentFile(pdf), save=False)
-    try:
-        certificate.full_clean()
-        certificate.save()
-    except Exception:
-        certificate.pdf.storage.delete(certificate.pdf.name)
-        raise
+    file_written(certificate.pdf)
+    certificate.full_clean()
+    certificate.save()
     certificate.tests.set(chosen)
     audit_record(
         actor=issued_by,
@@ -177,6 +175,7 @@ def _issue(
     return certificate
 
 
+@removed_on_failure
 @transaction.atomic
 def certificate_issue(
     *, job: Job, issued_by, tests: list[PowerUpTest] | None = None, calibration_override: str = ""
@@ -202,6 +201,7 @@ def _lock_valid(certificate: Certificate) -> Certificate:
     return locked
 
 
+@removed_on_failure
 @transaction.atomic
 def certificate_supersede(
     *,

@@ -35,3 +35,10 @@ def pdftoppm():
             pytest.fail(message)
         pytest.skip(message)
     return program
+
+
+@pytest.fixture
+def own_media(settings, tmp_path):
+    """A media folder of this test's own, free of the files other tests left behind."""
+    settings.MEDIA_ROOT = str(tmp_path / "media")
+    return tmp_path / "media"
