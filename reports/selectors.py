@@ -137,9 +137,16 @@ def verification_answer(certificate: Certificate) -> dict:
     return answer
 
 
-def receipt_data(job: Job) -> dict:
-    """The intake receipt's content, read live from the job (receipts are not certificates)."""
+def receipt_data(job: Job, *, with_contact: bool) -> dict:
+    """The intake receipt's content, read live from the job (receipts are not certificates).
+
+    `with_contact`: print the customer's phone (for the front desk and leads, who may read it;
+    a technician's copy leaves it out).
+    """
     unit = job.unit
+    customer = {"name": unit.owner.name}
+    if with_contact:
+        customer["phone"] = unit.owner.phone
     return {
         "schema": "receipt/1",
         "paper_size": settings.CERTIFICATE_PAPER_SIZE,
@@ -156,7 +163,7 @@ def receipt_data(job: Job) -> dict:
             "complaint": job.complaint,
             "estimate": f"{job.estimate:.2f}" if job.estimate is not None else None,
         },
-        "customer": {"name": unit.owner.name, "phone": unit.owner.phone},
+        "customer": customer,
         "unit": {
             "category": unit.get_category_display(),
             "maker": unit.maker,
