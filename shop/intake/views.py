@@ -243,6 +243,8 @@ class EvidenceViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets
         return FileResponse(
             evidence.file.open("rb"),
             as_attachment=True,
-            filename=evidence.label or f"evidence-{evidence.pk}{evidence.extension}",
+            # A name made from the record and the type found in the content, never the
+            # uploader's: theirs may carry a path, markup or a misleading extension.
+            filename=f"{evidence.job.number}-evidence-{evidence.pk}{evidence.extension}",
             content_type=evidence.content_type,
         )
