@@ -6,6 +6,7 @@ from decimal import Decimal
 
 from django.conf import settings
 from django.urls import reverse
+from django.utils import timezone
 
 from shop.bench.declared_load import physics_load
 from shop.bench.models import Instrument, PowerUpTest
@@ -29,11 +30,13 @@ OUTCOME_WORDS = {
     "inconclusive": "Inconclusive: these readings cannot tell a healthy unit from a faulty one; "
     "see the reasons.",
 }
+AMMETER_ROLE = "Ammeter"
 METER_ROLES = (
     ("source_meter", "Source voltmeter"),
     ("load_meter", "Unit voltmeter"),
-    ("current_meter", "Ammeter"),
+    ("current_meter", AMMETER_ROLE),
 )
+ZERO_CELSIUS = 273.15  # [K]
 
 
 def _person(user) -> str:
@@ -70,7 +73,9 @@ def _unit(job: Job) -> dict:
 
 def _instrument(role: str, meter: Instrument) -> dict:
     state = calibration_state(meter)
-    counts = f" + {meter.accuracy_counts} counts ({_number(meter.resolution, '')})".rstrip()
+    # The counts are of the meter's resolution in the quantity it measured in this role.
+    unit = "A" if role == AMMETER_ROLE else "V"
+    counts = f" + {meter.accuracy_counts} counts of {_number(meter.resolution, unit)}"
     return {
         "role": role,
         "label": str(meter),
@@ -161,6 +166,11 @@ def _declared_load(document: dict) -> dict:
     }
 
 
+def _ambient(kelvin: float) -> str:
+    """The bench ambient as the shop reads a thermometer, with the kelvin the model used."""
+    return f"{kelvin - ZERO_CELSIUS:.1f} \u00b0C ({kelvin:g} K)"
+
+
 def _switch_on(inputs: dict) -> dict | None:
     """A healthy unit's switch-on at the test's highest source volts, thinned (at most
     ``shop.bench.switch_on.MAX_POINTS`` moments); None where the physics cannot follow it.
@@ -211,7 +221,7 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "instruments": [_instrument(role, meter) for role, meter in instruments_used(test)],
         "calibration_override": override,
         "live_chassis_override": live,
-        "ambient_temperature": f"{test.ambient_temperature:g} K",
+        "ambient_temperature": _ambient(test.ambient_temperature),
         "outcome": verdict.outcome,
         "outcome_words": OUTCOME_WORDS[verdict.outcome],
         "reasons": [{"code": r["code"], "message": r["message"]} for r in verdict.reasons],
@@ -247,6 +257,7 @@ def build_certificate_snapshot(
     return {
         "schema": SCHEMA,
         "paper_size": settings.CERTIFICATE_PAPER_SIZE,
+        "time_zone": settings.TIME_ZONE,
         "shop": {
             "name": settings.SHOP_NAME,
             "address": settings.SHOP_ADDRESS,
@@ -269,7 +280,7 @@ def build_certificate_snapshot(
         "unit": _unit(job),
         "work_done": [
             {
-                "performed_at": step.performed_at.date().isoformat(),
+                "performed_at": timezone.localtime(step.performed_at).date().isoformat(),
                 "technician": _person(step.technician),
                 "action": step.action,
                 "minutes": step.minutes,

@@ -75,8 +75,10 @@ def render_certificate(snapshot: dict) -> bytes:
     certificate = snapshot["certificate"]
     unit = snapshot["unit"]
     tests = snapshot["tests"]
+    # Snapshots store UTC; they print in the shop's zone (UTC for those from before).
+    zone = snapshot.get("time_zone", "UTC")
     story = [
-        _header(snapshot, width),
+        _header(snapshot, width, zone),
         Paragraph(TITLE, STYLES["title"]),
         Paragraph(SCOPE, STYLES["subtitle"]),
     ]
@@ -91,10 +93,10 @@ def render_certificate(snapshot: dict) -> bytes:
         story += [live_chassis_box(snapshot.get("live_chassis_note"), width), Spacer(1, 6)]
     story.append(Paragraph("Outcome", STYLES["heading"]))
     for index, test in enumerate(tests, start=1):
-        story += [_outcome(test, index, len(tests), width), Spacer(1, 4)]
+        story += [_outcome(test, index, len(tests), width, zone), Spacer(1, 4)]
     story += [*_unit_and_job(snapshot, width), *_work_done(snapshot["work_done"], width)]
     for index, test in enumerate(tests, start=1):
-        story += _test(test, index, len(tests), width)
+        story += _test(test, index, len(tests), width, zone)
     story += _caveats(snapshot, width)
     story.append(_sign_off(snapshot, width))
     return build_pdf(
@@ -107,25 +109,25 @@ def render_certificate(snapshot: dict) -> bytes:
     )
 
 
-def _header(snapshot: dict, width: float) -> Table:
+def _header(snapshot: dict, width: float, zone: str) -> Table:
     certificate = snapshot["certificate"]
     return shop_header(
         snapshot["shop"],
         [
             f"<b>Certificate {text(certificate['number'])}</b>",
-            f"Issued {fmt.moment(certificate['issued_at'])}",
+            f"Issued {fmt.moment(certificate['issued_at'], zone)}",
             f"by {text(certificate.get('issued_by'))}",
         ],
         width,
     )
 
 
-def _test_name(test: dict, index: int, count: int) -> str:
+def _test_name(test: dict, index: int, count: int, zone: str) -> str:
     name = "Power-up test" if count == 1 else f"Power-up test {index} of {count}"
-    return f"{name}, {fmt.day(test.get('closed_at'))}"
+    return f"{name}, {fmt.day(test.get('closed_at'), zone)}"
 
 
-def _outcome(test: dict, index: int, count: int, width: float) -> Table:
+def _outcome(test: dict, index: int, count: int, width: float, zone: str) -> Table:
     colour = OUTCOME_COLOURS.get(test["outcome"], WARNING)
     left = [
         Paragraph(
@@ -136,7 +138,7 @@ def _outcome(test: dict, index: int, count: int, width: float) -> Table:
     ]
     right = [
         Paragraph(
-            f"<b>{text(_test_name(test, index, count))}.</b> {text(test['outcome_words'])}",
+            f"<b>{text(_test_name(test, index, count, zone))}.</b> {text(test['outcome_words'])}",
             STYLES["body"],
         )
     ]
@@ -233,13 +235,16 @@ def _override(label: str, override) -> Paragraph:
     return Paragraph(f"<b>{label}{who}:</b> {words}", STYLES["warning"])
 
 
-def _set_up(test: dict, width: float) -> list:
+def _set_up(test: dict, width: float, zone: str) -> list:
     rig = test["rig"]
     limiter = test["limiter"]
     load = test["declared_load"]
     rows = [
         ("Technician", text(test.get("technician"))),
-        ("Test run", f"{fmt.moment(test['started_at'])} to {fmt.moment(test['closed_at'])}"),
+        (
+            "Test run",
+            f"{fmt.moment(test['started_at'], zone)} to {fmt.moment(test['closed_at'], zone)}",
+        ),
         ("Rig", text(rig.get("name"))),
         (
             "Mains",
@@ -402,11 +407,11 @@ def _readings(test: dict, width: float) -> list:
     ]
 
 
-def _test(test: dict, index: int, count: int, width: float) -> list:
+def _test(test: dict, index: int, count: int, width: float, zone: str) -> list:
     return [
         CondPageBreak(60 * mm),
-        Paragraph(text(_test_name(test, index, count)), STYLES["heading"]),
-        *_set_up(test, width),
+        Paragraph(text(_test_name(test, index, count, zone)), STYLES["heading"]),
+        *_set_up(test, width, zone),
         Spacer(1, 6),
         _plot(test, width),
         *_switch_on(test, width),
