@@ -236,6 +236,13 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
     }
 
 
+def _part(part: dict) -> dict:
+    """A part as the customer reads it: its note only where it was marked for the customer
+    (notes are shop-internal by default: stock bins, quotes, suppliers)."""
+    note = part.get("note", "") if part.get("note_for_customer") else ""
+    return {"part": part["part"], "quantity": f"{part['quantity']:g}", "note": note}
+
+
 def verification_url(number: str, code: str) -> str:
     path = reverse("certificate-verify", kwargs={"number": number})
     return f"{settings.SHOP_PUBLIC_URL.rstrip('/')}{path}?code={code}"
@@ -284,10 +291,7 @@ def build_certificate_snapshot(
                 "technician": _person(step.technician),
                 "action": step.action,
                 "minutes": step.minutes,
-                "parts": [
-                    {"part": p["part"], "quantity": f"{p['quantity']:g}", "note": p.get("note", "")}
-                    for p in step.parts
-                ],
+                "parts": [_part(part) for part in step.parts],
             }
             for step in steps
         ],

@@ -68,3 +68,31 @@ def test_the_accuracy_keeps_the_unit_of_its_counts(closed_test, staff):
     certificate = services.certificate_issue(job=closed_test.job, issued_by=staff["lead"])
     # The fixture's meter: 0.8 % + 3 counts at a resolution of 0.1, used as a voltmeter.
     assert "0.8 % + 3 counts of 0.1 V" in issued_text(certificate)
+
+
+def test_a_parts_note_prints_only_when_marked_for_the_customer(closed_test, client_for):
+    parts = [
+        {"part": "47 uF 450 V electrolytic", "quantity": "2", "note": "bin C-14, quoted 9.40"},
+        {
+            "part": "2-core mains cord",
+            "quantity": "1",
+            "note": "brown, as original",
+            "note_for_customer": True,
+        },
+    ]
+    step = client_for("technician").post(
+        "/api/steps/",
+        {"job": closed_test.job_id, "action": "Recapped", "parts": parts},
+        format="json",
+    )
+    assert step.status_code == 201, step.content
+    assert [part["note_for_customer"] for part in step.json()["parts"]] == [False, True]
+    issued = client_for("lead").post(
+        "/api/certificates/", {"job": closed_test.job_id}, format="json"
+    )
+    assert issued.status_code == 201, issued.content
+    pdf = client_for("lead").get(f"/api/certificates/{issued.json()['id']}/pdf/")
+    text = text_of(pdf.content)
+    assert "47 uF 450 V electrolytic" in text
+    assert "bin C-14" not in text and "9.40" not in text
+    assert "brown, as original" in text

@@ -96,6 +96,7 @@ def add_longest_steps(client, job) -> list[dict]:
                     "part": filler(f"p{step}x{index:03d}y", PART_LENGTH),
                     "quantity": "99999.999",
                     "note": filler(f"q{step}x{index:03d}y", PART_NOTE_LENGTH),
+                    "note_for_customer": True,
                 }
                 for index in range(MAX_PARTS_PER_STEP)
             ],
