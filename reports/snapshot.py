@@ -141,7 +141,7 @@ def _limiter(test: PowerUpTest) -> dict:
     return {"label": label, "description": description}
 
 
-def _declared_load(document: dict) -> dict:
+def _declared_load(document: dict, unit) -> dict:
     configuration = document.get("configuration") or {}
     said = [
         words
@@ -156,14 +156,31 @@ def _declared_load(document: dict) -> dict:
         said.append(f"voltage selector at {configuration['voltage_selector']}")
     if configuration.get("notes"):
         said.append(configuration["notes"])
-    described = physics_load(document).describe()
+    load = physics_load(document)
+    described = load.describe()
     return {
         "summary": described["summary"],
+        # What the model draws in all, beside what the unit's nameplate declares.
+        "model_total_power": f"{float(load.rated_power):.3g} W",
+        "nameplate_power": _number(unit.rated_power, unit.rated_power_unit),
         "model": described["model"],
         "assumptions": list(described.get("assumptions", [])),
         "basis": document["basis"].replace("_", " "),
         "configuration": "; ".join(said) or "as received",
     }
+
+
+def _band_tolerances(settings_used: dict) -> dict | None:
+    """The tolerances the healthy band was drawn with, as the judgement recorded them."""
+    keys = {
+        "load": "load_tolerance",
+        "lamp_power": "lamp_power_tolerance",
+        "meter_relative": "meter_relative_accuracy",
+        "meter_absolute": "meter_absolute_accuracy",
+    }
+    if not all(key in settings_used for key in keys.values()):
+        return None
+    return {name: settings_used[key] for name, key in keys.items()}
 
 
 def _ambient(kelvin: float) -> str:
@@ -217,7 +234,8 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "technician": _person(test.technician),
         "rig": _rig(test),
         "limiter": _limiter(test),
-        "declared_load": _declared_load(test.declared_load),
+        "declared_load": _declared_load(test.declared_load, test.job.unit),
+        "band_tolerances": _band_tolerances(inputs.get("settings") or {}),
         "instruments": [_instrument(role, meter) for role, meter in instruments_used(test)],
         "calibration_override": override,
         "live_chassis_override": live,

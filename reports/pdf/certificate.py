@@ -235,6 +235,32 @@ def _override(label: str, override) -> Paragraph:
     return Paragraph(f"<b>{label}{who}:</b> {words}", STYLES["warning"])
 
 
+def _totals(load: dict) -> str:
+    """The model's total draw beside the nameplate's figure (snapshots that carry both)."""
+    if not load.get("model_total_power"):
+        return ""
+    return (
+        f"; the model draws {text(load['model_total_power'])} in all "
+        f"(nameplate: {text(load.get('nameplate_power'))})"
+    )
+
+
+def _percent(fraction: float) -> str:
+    return f"{fraction * 100:.3g} %"
+
+
+def _band_words(tolerances: dict | None) -> str:
+    """What the healthy band allows for, in numbers (snapshots that carry the tolerances)."""
+    if not tolerances:
+        return ""
+    return (
+        f" The band allows {_percent(tolerances['load'])} either way on the declared load, "
+        f"{_percent(tolerances['lamp_power'])} spread of the lamp's rated power and the "
+        f"voltmeter's accuracy ({_percent(tolerances['meter_relative'])} of the reading + "
+        f"{tolerances['meter_absolute']:g} V)."
+    )
+
+
 def _set_up(test: dict, width: float, zone: str) -> list:
     rig = test["rig"]
     limiter = test["limiter"]
@@ -257,7 +283,7 @@ def _set_up(test: dict, width: float, zone: str) -> list:
         (
             "Declared load",
             f"{text(load.get('summary'))}; basis: {text(load.get('basis'))}; "
-            f"unit as tested: {text(load.get('configuration'))}",
+            f"unit as tested: {text(load.get('configuration'))}{_totals(load)}",
         ),
         *(
             [
@@ -318,7 +344,7 @@ def _plot(test: dict, width: float) -> KeepTogether:
         f"A healthy unit of the declared load ({text(load)}) would read inside the shaded band. "
         "A unit that draws more than declared reads lower, because the lamp then takes more of "
         "the voltage; one that draws less reads higher."
-    )
+    ) + _band_words(test.get("band_tolerances"))
     flowables = [
         Paragraph("Readings against a healthy unit", STYLES["subheading"]),
         Paragraph(explanation, STYLES["small"]),

@@ -96,3 +96,20 @@ def test_a_parts_note_prints_only_when_marked_for_the_customer(closed_test, clie
     assert "47 uF 450 V electrolytic" in text
     assert "bin C-14" not in text and "9.40" not in text
     assert "brown, as original" in text
+
+
+def test_the_declared_load_shows_the_models_total_beside_the_nameplate(closed_test, staff):
+    certificate = services.certificate_issue(job=closed_test.job, issued_by=staff["lead"])
+    # The fixture's unit: nameplate 60 W; its test declares a 60 W resistive load.
+    assert "the model draws 60 W in all (nameplate: 60 W)" in issued_text(certificate)
+
+
+def test_the_tolerances_behind_the_healthy_band_are_stated(closed_test, staff):
+    certificate = services.certificate_issue(job=closed_test.job, issued_by=staff["lead"])
+    used = closed_test.verdict.inputs["settings"]
+    text = issued_text(certificate)
+    assert (
+        f"The band allows {used['load_tolerance'] * 100:.3g} % either way on the declared load, "
+        f"{used['lamp_power_tolerance'] * 100:.3g} % spread of the lamp's rated power"
+    ) in text
+    assert f"{used['meter_absolute_accuracy']:g} V)" in text
