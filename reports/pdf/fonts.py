@@ -19,6 +19,7 @@ face is set glyph for glyph, so its text extracts exactly as typed.
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import io
 import os
@@ -97,6 +98,7 @@ RIGHT_TO_LEFT = frozenset({"R", "AL"})
 _WORDS = re.compile(r"(\s+)")
 _RESHAPER = ArabicReshaper()
 _lock = threading.Lock()
+_registered = False
 
 
 class UnshapedTTFont(TTFont):
@@ -138,8 +140,11 @@ def _bold_file() -> Path:
 
 def register() -> None:
     """Register the text faces with reportlab (once per process)."""
+    global _registered
+    if _registered:
+        return
     with _lock:
-        if FONT in pdfmetrics.getRegisteredFontNames():
+        if _registered:
             return
         pdfmetrics.registerFont(UnshapedTTFont(FONT, str(_UPRIGHT)))
         pdfmetrics.registerFont(UnshapedTTFont(FONT_BOLD, str(_bold_file())))
@@ -149,6 +154,7 @@ def register() -> None:
         addMapping(FONT, 1, 0, FONT_BOLD)
         addMapping(FONT, 0, 1, FONT_ITALIC)
         addMapping(FONT, 1, 1, FONT_BOLD_ITALIC)
+        _registered = True
 
 
 def _fallback_face(fallback: Fallback) -> TTFont:
@@ -165,6 +171,7 @@ def _fallback_face(fallback: Fallback) -> TTFont:
     return pdfmetrics.getFont(fallback.name)
 
 
+@functools.lru_cache(maxsize=8192)
 def face_for(character: str) -> str | None:
     """The fallback face that draws `character`, or None when Noto Sans has it (or nobody)."""
     register()
