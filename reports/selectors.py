@@ -10,7 +10,8 @@ from django.conf import settings
 from django.db.models import QuerySet
 
 from shop.core.errors import Conflict
-from shop.intake.models import Job
+from shop.core.stored_files import orphan_files
+from shop.intake.models import Evidence, Job
 
 from .canonical import sha256_hex
 from .models import Certificate, certificate_status
@@ -78,6 +79,20 @@ def certificate_intact(certificate: Certificate) -> bool:
     return certificate_problem(certificate) is None
 
 
+def orphan_stored_files() -> list[str]:
+    """Stored certificate PDFs and evidence files that no record points at (left by a write
+    that died before its record was committed)."""
+    found = []
+    for model, field, folder in (
+        (Certificate, "pdf", "certificates"),
+        (Evidence, "file", "evidence"),
+    ):
+        storage = model._meta.get_field(field).storage
+        names = model.objects.values_list(field, flat=True).iterator(chunk_size=2000)
+        found += orphan_files(storage, folder, names)
+    return found
+
+
 def stored_pdf(certificate: Certificate) -> bytes:
     """The PDF as issued; refused if the stored file is missing or was changed."""
     content = _pdf_bytes(certificate)
@@ -141,9 +156,16 @@ def verification_answer(certificate: Certificate) -> dict:
     return answer
 
 
-def receipt_data(job: Job) -> dict:
-    """The intake receipt's content, read live from the job (receipts are not certificates)."""
+def receipt_data(job: Job, *, with_contact: bool) -> dict:
+    """The intake receipt's content, read live from the job (receipts are not certificates).
+
+    `with_contact`: print the customer's phone (for the front desk and leads, who may read it;
+    a technician's copy leaves it out).
+    """
     unit = job.unit
+    customer = {"name": unit.owner.name}
+    if with_contact:
+        customer["phone"] = unit.owner.phone
     return {
         "schema": "receipt/1",
         "paper_size": settings.CERTIFICATE_PAPER_SIZE,
@@ -160,7 +182,7 @@ def receipt_data(job: Job) -> dict:
             "complaint": job.complaint,
             "estimate": f"{job.estimate:.2f}" if job.estimate is not None else None,
         },
-        "customer": {"name": unit.owner.name, "phone": unit.owner.phone},
+        "customer": customer,
         "unit": {
             "category": unit.get_category_display(),
             "maker": unit.maker,

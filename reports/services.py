@@ -17,6 +17,7 @@ from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
 from shop.core.roles import LEAD, has_role
+from shop.core.stored_files import file_written, removed_on_failure
 from shop.intake.models import Job, JobState
 
 from .canonical import canonical_json, sha256_hex
@@ -218,12 +219,9 @@ def _issue(
         number=number, snapshot=snapshot, pdf_sha256=certificate.pdf_sha256
     )
     certificate.pdf.save(f"{number}.pdf", ContentFile(pdf), save=False)
-    try:
-        certificate.full_clean()
-        certificate.save()
-    except Exception:
-        certificate.pdf.storage.delete(certificate.pdf.name)
-        raise
+    file_written(certificate.pdf)
+    certificate.full_clean()
+    certificate.save()
     certificate.tests.set(chosen)
     audit_record(
         actor=issued_by,
@@ -258,6 +256,7 @@ def _supersede(old: Certificate, new: Certificate, *, by, reason: str) -> None:
     )
 
 
+@removed_on_failure
 @transaction.atomic
 def certificate_issue(
     *,
@@ -289,6 +288,7 @@ def _lock_valid(certificate: Certificate) -> Certificate:
     return locked
 
 
+@removed_on_failure
 @transaction.atomic
 def certificate_supersede(
     *,

@@ -6,6 +6,7 @@ from decimal import Decimal
 
 from django.conf import settings
 from django.urls import reverse
+from django.utils import timezone
 
 from shop.bench.declared_load import physics_load
 from shop.bench.models import Instrument, PowerUpTest
@@ -30,11 +31,13 @@ OUTCOME_WORDS = {
     "inconclusive": "Inconclusive: these readings cannot tell a healthy unit from a faulty one; "
     "see the reasons.",
 }
+AMMETER_ROLE = "Ammeter"
 METER_ROLES = (
     ("source_meter", "Source voltmeter"),
     ("load_meter", "Unit voltmeter"),
-    ("current_meter", "Ammeter"),
+    ("current_meter", AMMETER_ROLE),
 )
+ZERO_CELSIUS = 273.15  # [K]
 
 
 def _person(user) -> str:
@@ -118,7 +121,9 @@ def _unit(job: Job, tests: list[PowerUpTest]) -> dict:
 
 def _instrument(role: str, meter: Instrument) -> dict:
     state = calibration_state(meter)
-    counts = f" + {meter.accuracy_counts} counts ({_number(meter.resolution, '')})".rstrip()
+    # The counts are of the meter's resolution in the quantity it measured in this role.
+    unit = "A" if role == AMMETER_ROLE else "V"
+    counts = f" + {meter.accuracy_counts} counts of {_number(meter.resolution, unit)}"
     return {
         "role": role,
         "label": str(meter),
@@ -187,7 +192,7 @@ def _limiter(test: PowerUpTest) -> dict:
     return {"label": label, "description": description}
 
 
-def _declared_load(document: dict) -> dict:
+def _declared_load(document: dict, unit) -> dict:
     configuration = document.get("configuration") or {}
     said = [
         words
@@ -202,14 +207,36 @@ def _declared_load(document: dict) -> dict:
         said.append(f"voltage selector at {configuration['voltage_selector']}")
     if configuration.get("notes"):
         said.append(configuration["notes"])
-    described = physics_load(document).describe()
+    load = physics_load(document)
+    described = load.describe()
     return {
         "summary": described["summary"],
+        # What the model draws in all, beside what the unit's nameplate declares.
+        "model_total_power": f"{float(load.rated_power):.3g} W",
+        "nameplate_power": _number(unit.rated_power, unit.rated_power_unit),
         "model": described["model"],
         "assumptions": list(described.get("assumptions", [])),
         "basis": document["basis"].replace("_", " "),
         "configuration": "; ".join(said) or "as received",
     }
+
+
+def _band_tolerances(settings_used: dict) -> dict | None:
+    """The tolerances the healthy band was drawn with, as the judgement recorded them."""
+    keys = {
+        "load": "load_tolerance",
+        "lamp_power": "lamp_power_tolerance",
+        "meter_relative": "meter_relative_accuracy",
+        "meter_absolute": "meter_absolute_accuracy",
+    }
+    if not all(key in settings_used for key in keys.values()):
+        return None
+    return {name: settings_used[key] for name, key in keys.items()}
+
+
+def _ambient(kelvin: float) -> str:
+    """The bench ambient as the shop reads a thermometer, with the kelvin the model used."""
+    return f"{kelvin - ZERO_CELSIUS:.1f} \u00b0C ({kelvin:g} K)"
 
 
 def _switch_on(inputs: dict) -> dict | None:
@@ -260,14 +287,15 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "technician": _person(test.technician),
         "rig": _rig(test),
         "limiter": _limiter(test),
-        "declared_load": _declared_load(test.declared_load),
+        "declared_load": _declared_load(test.declared_load, test.job.unit),
+        "band_tolerances": _band_tolerances(inputs.get("settings") or {}),
         "instruments": [_instrument(role, meter) for role, meter in instruments_used(test)],
         "calibration_override": override,
         "live_chassis_override": live,
         "voltage_override": voltage,
         "unit_as_tested": _fact_words(test.unit_facts) if test.unit_facts else None,
         "warnings": list(test.warnings),
-        "ambient_temperature": f"{test.ambient_temperature:g} K",
+        "ambient_temperature": _ambient(test.ambient_temperature),
         "outcome": verdict.outcome,
         "outcome_words": OUTCOME_WORDS[verdict.outcome],
         "reasons": [{"code": r["code"], "message": r["message"]} for r in verdict.reasons],
@@ -280,6 +308,13 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         },
         "switch_on": _switch_on(inputs),
     }
+
+
+def _part(part: dict) -> dict:
+    """A part as the customer reads it: its note only where it was marked for the customer
+    (notes are shop-internal by default: stock bins, quotes, suppliers)."""
+    note = part.get("note", "") if part.get("note_for_customer") else ""
+    return {"part": part["part"], "quantity": f"{part['quantity']:g}", "note": note}
 
 
 def verification_url(number: str, code: str) -> str:
@@ -309,6 +344,7 @@ def build_certificate_snapshot(
     return {
         "schema": SCHEMA,
         "paper_size": settings.CERTIFICATE_PAPER_SIZE,
+        "time_zone": settings.TIME_ZONE,
         "shop": {
             "name": settings.SHOP_NAME,
             "address": settings.SHOP_ADDRESS,
@@ -333,14 +369,11 @@ def build_certificate_snapshot(
         "left_out_tests": list(left_out),
         "work_done": [
             {
-                "performed_at": step.performed_at.date().isoformat(),
+                "performed_at": timezone.localtime(step.performed_at).date().isoformat(),
                 "technician": _person(step.technician),
                 "action": step.action,
                 "minutes": step.minutes,
-                "parts": [
-                    {"part": p["part"], "quantity": f"{p['quantity']:g}", "note": p.get("note", "")}
-                    for p in step.parts
-                ],
+                "parts": [_part(part) for part in step.parts],
             }
             for step in steps
         ],

@@ -19,7 +19,7 @@ from rest_framework.response import Response
 from rest_framework.throttling import AnonRateThrottle
 
 from shop.core.errors import error_body
-from shop.core.roles import ANY_ROLE, LEAD, HasShopRole
+from shop.core.roles import ANY_ROLE, FRONT_DESK, LEAD, HasShopRole, has_role
 from shop.core.schema import ERROR_RESPONSES, THROTTLED_RESPONSE, WRITE_ERROR_RESPONSES
 from shop.intake.models import Job
 
@@ -125,7 +125,7 @@ class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, views
 
 
 class ReceiptView(GenericAPIView):
-    """The intake receipt of a job, as PDF."""
+    """The intake receipt of a job, as PDF; the customer's phone only for the desk and leads."""
 
     permission_classes = [HasShopRole]
     role_rules = {"read": ANY_ROLE}
@@ -135,7 +135,10 @@ class ReceiptView(GenericAPIView):
     def get(self, request, pk: int):
         job = self.get_object()
         return pdf_response(
-            render_receipt(selectors.receipt_data(job)), f"receipt-{job.number}.pdf"
+            render_receipt(
+                selectors.receipt_data(job, with_contact=has_role(request.user, FRONT_DESK, LEAD))
+            ),
+            f"receipt-{job.number}.pdf",
         )
 
 

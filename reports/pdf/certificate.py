@@ -61,8 +61,10 @@ INSTRUMENT_HEADER = [
     "Calibration due",
     "Calibration state",
 ]
-WORK_COLUMNS = (0.13, 0.36, 0.29, 0.14, 0.08)
-WORK_HEADER = ["Date", "Work done", "Parts", "By", "Time"]
+WORK_COLUMNS = (0.14, 0.58, 0.18, 0.10)
+WORK_HEADER = ["Date", "Work done", "By", "Time"]
+PARTS_COLUMNS = (0.14, 0.12, 0.40, 0.34)
+PARTS_HEADER = ["Step of", "Quantity", "Part", "Note"]
 
 
 def render_certificate(snapshot: dict) -> bytes:
@@ -75,8 +77,10 @@ def render_certificate(snapshot: dict) -> bytes:
     certificate = snapshot["certificate"]
     unit = snapshot["unit"]
     tests = snapshot["tests"]
+    # Snapshots store UTC; they print in the shop's zone (UTC for those from before).
+    zone = snapshot.get("time_zone", "UTC")
     story = [
-        _header(snapshot, width),
+        _header(snapshot, width, zone),
         Paragraph(TITLE, STYLES["title"]),
         Paragraph(SCOPE, STYLES["subtitle"]),
     ]
@@ -100,8 +104,8 @@ def render_certificate(snapshot: dict) -> bytes:
         )
     story.append(Paragraph("Outcome", STYLES["heading"]))
     for index, test in enumerate(tests, start=1):
-        story += [_outcome(test, index, len(tests), width), Spacer(1, 4)]
-    story.append(_unit_and_job(snapshot, width))
+        story += [_outcome(test, index, len(tests), width, zone), Spacer(1, 4)]
+    story += _unit_and_job(snapshot, width)
     if snapshot["job"].get("ready_override"):
         story.append(
             _override("Released as ready without a passed test", snapshot["job"]["ready_override"])
@@ -116,7 +120,7 @@ def render_certificate(snapshot: dict) -> bytes:
         )
     story += _work_done(snapshot["work_done"], width)
     for index, test in enumerate(tests, start=1):
-        story += _test(test, index, len(tests), width)
+        story += _test(test, index, len(tests), width, zone)
     story += _caveats(snapshot, width)
     story.append(_sign_off(snapshot, width))
     return build_pdf(
@@ -129,25 +133,25 @@ def render_certificate(snapshot: dict) -> bytes:
     )
 
 
-def _header(snapshot: dict, width: float) -> Table:
+def _header(snapshot: dict, width: float, zone: str) -> Table:
     certificate = snapshot["certificate"]
     return shop_header(
         snapshot["shop"],
         [
             f"<b>Certificate {text(certificate['number'])}</b>",
-            f"Issued {fmt.moment(certificate['issued_at'])}",
+            f"Issued {fmt.moment(certificate['issued_at'], zone)}",
             f"by {text(certificate.get('issued_by'))}",
         ],
         width,
     )
 
 
-def _test_name(test: dict, index: int, count: int) -> str:
+def _test_name(test: dict, index: int, count: int, zone: str) -> str:
     name = "Power-up test" if count == 1 else f"Power-up test {index} of {count}"
-    return f"{name}, {fmt.day(test.get('closed_at'))}"
+    return f"{name}, {fmt.day(test.get('closed_at'), zone)}"
 
 
-def _outcome(test: dict, index: int, count: int, width: float) -> Table:
+def _outcome(test: dict, index: int, count: int, width: float, zone: str) -> Table:
     colour = OUTCOME_COLOURS.get(test["outcome"], WARNING)
     left = [
         Paragraph(
@@ -158,7 +162,7 @@ def _outcome(test: dict, index: int, count: int, width: float) -> Table:
     ]
     right = [
         Paragraph(
-            f"<b>{text(_test_name(test, index, count))}.</b> {text(test['outcome_words'])}",
+            f"<b>{text(_test_name(test, index, count, zone))}.</b> {text(test['outcome_words'])}",
             STYLES["body"],
         )
     ]
@@ -178,10 +182,11 @@ def _sentence(words: str) -> str:
     return words[:1].upper() + words[1:]
 
 
-def _unit_and_job(snapshot: dict, width: float) -> Table:
+def _unit_and_job(snapshot: dict, width: float) -> list:
+    """The unit, then the customer and job, one under the other so that a long value (a
+    4,000-character complaint) can run on to the next page."""
     unit = snapshot["unit"]
     job = snapshot["job"]
-    half = (width - 8 * mm) / 2
     unit_rows = [
         ("Unit", f"<b>{text(fmt.unit_name(unit))}</b>"),
         ("Category", text(unit.get("category"))),
@@ -198,43 +203,26 @@ def _unit_and_job(snapshot: dict, width: float) -> Table:
         ("Received", fmt.day(job.get("received_on"))),
         ("Complaint", text(job.get("complaint"))),
     ]
-    table = Table(
+    return [
+        Paragraph("The unit", STYLES["subheading"]),
+        key_value_table(unit_rows, width, LABEL_WIDTH),
+        Paragraph("Customer and job", STYLES["subheading"]),
+        key_value_table(job_rows, width, LABEL_WIDTH),
+    ]
+
+
+def _part_rows(steps: list[dict]) -> list[list]:
+    """One row per part used, in step order: a step with a hundred parts splits between them."""
+    return [
         [
-            [
-                [
-                    Paragraph("The unit", STYLES["subheading"]),
-                    key_value_table(unit_rows, half, LABEL_WIDTH),
-                ],
-                [
-                    Paragraph("Customer and job", STYLES["subheading"]),
-                    key_value_table(job_rows, half, LABEL_WIDTH),
-                ],
-            ]
-        ],
-        colWidths=[half + 8 * mm, half],
-    )
-    table.setStyle(
-        TableStyle(
-            [
-                ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("LEFTPADDING", (0, 0), (-1, -1), 0),
-                ("RIGHTPADDING", (0, 0), (-1, -1), 0),
-            ]
-        )
-    )
-    return table
-
-
-def _parts(parts: list[dict]) -> str:
-    if not parts:
-        return "none"
-    lines = []
-    for part in parts:
-        line = f"{text(part.get('quantity'))} x {text(part.get('part'))}"
-        if part.get("note"):
-            line += f" ({text(part['note'])})"
-        lines.append(line)
-    return "<br/>".join(lines)
+            Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
+            Paragraph(text(part.get("quantity")), STYLES["cell"]),
+            Paragraph(text(part.get("part")), STYLES["cell"]),
+            Paragraph(text(part["note"]) if part.get("note") else "", STYLES["cell"]),
+        ]
+        for step in steps
+        for part in step.get("parts") or []
+    ]
 
 
 def _work_done(steps: list[dict], width: float) -> list:
@@ -245,13 +233,19 @@ def _work_done(steps: list[dict], width: float) -> list:
         [
             Paragraph(fmt.day(step.get("performed_at")), STYLES["cell"]),
             Paragraph(text(step.get("action")), STYLES["cell"]),
-            Paragraph(_parts(step.get("parts") or []), STYLES["cell"]),
             Paragraph(text(step.get("technician")), STYLES["cell"]),
             f"{step['minutes']} min" if step.get("minutes") is not None else "",
         ]
         for step in steps
     ]
-    return [heading, data_table(WORK_HEADER, rows, [width * f for f in WORK_COLUMNS])]
+    flowables = [heading, data_table(WORK_HEADER, rows, [width * f for f in WORK_COLUMNS])]
+    parts = _part_rows(steps)
+    flowables.append(Paragraph("Parts used", STYLES["subheading"]))
+    if parts:
+        flowables.append(data_table(PARTS_HEADER, parts, [width * f for f in PARTS_COLUMNS]))
+    else:
+        flowables.append(Paragraph("No parts were recorded.", STYLES["body"]))
+    return flowables
 
 
 def _override(label: str, override) -> Paragraph:
@@ -265,13 +259,42 @@ def _override(label: str, override) -> Paragraph:
     return Paragraph(f"<b>{label}{who}:</b> {words}", STYLES["warning"])
 
 
-def _set_up(test: dict, width: float) -> list:
+def _totals(load: dict) -> str:
+    """The model's total draw beside the nameplate's figure (snapshots that carry both)."""
+    if not load.get("model_total_power"):
+        return ""
+    return (
+        f"; the model draws {text(load['model_total_power'])} in all "
+        f"(nameplate: {text(load.get('nameplate_power'))})"
+    )
+
+
+def _percent(fraction: float) -> str:
+    return f"{fraction * 100:.3g} %"
+
+
+def _band_words(tolerances: dict | None) -> str:
+    """What the healthy band allows for, in numbers (snapshots that carry the tolerances)."""
+    if not tolerances:
+        return ""
+    return (
+        f" The band allows {_percent(tolerances['load'])} either way on the declared load, "
+        f"{_percent(tolerances['lamp_power'])} spread of the lamp's rated power and the "
+        f"voltmeter's accuracy ({_percent(tolerances['meter_relative'])} of the reading + "
+        f"{tolerances['meter_absolute']:g} V)."
+    )
+
+
+def _set_up(test: dict, width: float, zone: str) -> list:
     rig = test["rig"]
     limiter = test["limiter"]
     load = test["declared_load"]
     rows = [
         ("Technician", text(test.get("technician"))),
-        ("Test run", f"{fmt.moment(test['started_at'])} to {fmt.moment(test['closed_at'])}"),
+        (
+            "Test run",
+            f"{fmt.moment(test['started_at'], zone)} to {fmt.moment(test['closed_at'], zone)}",
+        ),
         ("Rig", text(rig.get("name"))),
         (
             "Mains",
@@ -284,7 +307,7 @@ def _set_up(test: dict, width: float) -> list:
         (
             "Declared load",
             f"{text(load.get('summary'))}; basis: {text(load.get('basis'))}; "
-            f"unit as tested: {text(load.get('configuration'))}",
+            f"unit as tested: {text(load.get('configuration'))}{_totals(load)}",
         ),
         *(
             [
@@ -365,7 +388,7 @@ def _plot(test: dict, width: float) -> KeepTogether:
         f"A healthy unit of the declared load ({text(load)}) would read inside the shaded band. "
         "A unit that draws more than declared reads lower, because the lamp then takes more of "
         "the voltage; one that draws less reads higher."
-    )
+    ) + _band_words(test.get("band_tolerances"))
     flowables = [
         Paragraph("Readings against a healthy unit", STYLES["subheading"]),
         Paragraph(explanation, STYLES["small"]),
@@ -454,11 +477,11 @@ def _readings(test: dict, width: float) -> list:
     ]
 
 
-def _test(test: dict, index: int, count: int, width: float) -> list:
+def _test(test: dict, index: int, count: int, width: float, zone: str) -> list:
     return [
         CondPageBreak(60 * mm),
-        Paragraph(text(_test_name(test, index, count)), STYLES["heading"]),
-        *_set_up(test, width),
+        Paragraph(text(_test_name(test, index, count, zone)), STYLES["heading"]),
+        *_set_up(test, width, zone),
         Spacer(1, 6),
         _plot(test, width),
         *_switch_on(test, width),

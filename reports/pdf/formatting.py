@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 import math
-from datetime import UTC, date, datetime
-from xml.sax.saxutils import escape
+from datetime import date, datetime
+from zoneinfo import ZoneInfo
+
+from .fonts import runs
 
 CURRENT_SIGNIFICANT_DIGITS = 3
 NOT_RECORDED = "not recorded"
@@ -27,10 +29,11 @@ BEHAVIOUR_WORDS = {"steady": "steady", "flash_then_dims": "flash, then dim", "cy
 
 
 def text(value) -> str:
-    """Free text made safe for reportlab's paragraph mark-up; line breaks kept."""
+    """Free text made safe for reportlab's paragraph mark-up; line breaks kept, each script
+    set in a face that has it and right-to-left words in display order (fonts.runs)."""
     if value is None or value == "":
         return NOT_RECORDED
-    return escape(str(value)).replace("\n", "<br/>")
+    return runs(str(value))
 
 
 def volts(value) -> str:
@@ -81,21 +84,29 @@ def glow(glow_seen: str | None, behaviour: str | None) -> str:
     return ", ".join(words)
 
 
-def day(iso: str | None) -> str:
-    """An ISO date (or date-time) as "2 October 2027"."""
+def day(iso: str | None, zone: str = "UTC") -> str:
+    """An ISO date as "2 October 2027"; a date-time is first put in `zone` (an IANA name)."""
     if not iso:
         return NOT_RECORDED
-    value = date.fromisoformat(iso[:10])
+    if len(iso) > 10:
+        value = datetime.fromisoformat(iso)
+        if value.tzinfo is not None:
+            value = value.astimezone(ZoneInfo(zone))
+        value = value.date()
+    else:
+        value = date.fromisoformat(iso)
     return f"{value.day} {MONTHS[value.month - 1]} {value.year}"
 
 
-def moment(iso: str) -> str:
-    """An ISO date-time as "1 December 2026, 21:50 UTC" (or without zone when it has none)."""
+def moment(iso: str, zone: str = "UTC") -> str:
+    """An ISO date-time in the shop's `zone`, named: "1 December 2026, 22:50 CET
+    (Europe/Berlin)", "1 December 2026, 21:50 UTC" (or without zone when it has none)."""
     value = datetime.fromisoformat(iso)
     if value.tzinfo is None:
         return f"{day(iso)}, {value:%H:%M}"
-    value = value.astimezone(UTC)
-    return f"{day(value.isoformat())}, {value:%H:%M} UTC"
+    local = value.astimezone(ZoneInfo(zone))
+    named = local.tzname() if local.tzname() == zone else f"{local.tzname()} ({zone})"
+    return f"{day(local.isoformat())}, {local:%H:%M} {named}"
 
 
 def unit_name(unit: dict) -> str:

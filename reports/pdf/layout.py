@@ -122,12 +122,15 @@ def shop_header(shop: dict, right: list[str], width: float) -> Table:
 
 
 def key_value_table(rows: list[tuple[str, str]], width: float, label_width: float) -> Table:
-    """Labelled facts, one per row; values are paragraph mark-up and wrap within `width`."""
+    """Labelled facts, one per row; values are paragraph mark-up and wrap within `width`.
+
+    A value longer than a page (a 4,000-character complaint) continues on the next page.
+    """
     data = [
         [Paragraph(label, STYLES["label"]), Paragraph(value, STYLES["cell"])]
         for label, value in rows
     ]
-    table = Table(data, colWidths=[label_width, width - label_width])
+    table = Table(data, colWidths=[label_width, width - label_width], splitInRow=1)
     table.setStyle(
         TableStyle(
             [
@@ -143,9 +146,13 @@ def key_value_table(rows: list[tuple[str, str]], width: float, label_width: floa
 
 
 def data_table(header: list[str], rows: list[list], widths: list[float]) -> Table:
-    """A ruled table whose header row repeats on every page it spans."""
+    """A ruled table whose header row repeats on every page it spans.
+
+    Rows split between pages, and so does a row taller than a page (a step with a hundred
+    parts), as long as its tall cells are paragraphs.
+    """
     data = [[Paragraph(words, STYLES["cell_header"]) for words in header], *rows]
-    table = Table(data, colWidths=widths, repeatRows=1)
+    table = Table(data, colWidths=widths, repeatRows=1, splitInRow=1)
     table.setStyle(
         TableStyle(
             [

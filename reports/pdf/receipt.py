@@ -42,7 +42,8 @@ def render_receipt(data: dict) -> bytes:
     )
     job_rows = [
         ("Customer", text(customer.get("name"))),
-        ("Phone", text(customer.get("phone"))),
+        # A copy made for someone who may not read the customer's contact details has none.
+        *([("Phone", text(customer.get("phone")))] if "phone" in customer else []),
         ("Received", fmt.day(job.get("received_on"))),
         (
             "Ready by (expected)",

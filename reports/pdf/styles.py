@@ -1,7 +1,7 @@
 """Fonts, colours, paragraph styles and paper sizes shared by the certificate and the receipt.
 
-Only the Helvetica family that every PDF reader carries is used, so nothing is embedded and
-the text extracts as typed; it covers Windows-1252 (Western European) characters.
+Text is set in embedded Noto Sans with a fallback face per script (see fonts.py), so names in
+most of the world's scripts print as typed.
 """
 
 from __future__ import annotations
@@ -11,15 +11,15 @@ from reportlab.lib.pagesizes import A4, LETTER
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 
+from .fonts import FONT, FONT_BOLD, register
+
 PAPER_SIZES = {"A4": A4, "Letter": LETTER}
 MARGIN = 16 * mm
 # Baseline of the page footer above the paper's bottom edge: below the text frame, whose
 # bottom margin is MARGIN, with room for the rule drawn above it.
 FOOTER_OFFSET = 9 * mm
 
-FONT = "Helvetica"
-FONT_BOLD = "Helvetica-Bold"
-FONT_ITALIC = "Helvetica-Oblique"
+register()
 BODY_SIZE = 9
 SMALL_SIZE = 7.5
 
@@ -38,7 +38,14 @@ OUTCOME_COLOURS = {
 
 
 def _style(name: str, **overrides) -> ParagraphStyle:
-    base = {"fontName": FONT, "fontSize": BODY_SIZE, "leading": BODY_SIZE * 1.25, "textColor": INK}
+    # shaping=1 lets HarfBuzz shape the scripts whose faces ask for it (fonts.py).
+    base = {
+        "fontName": FONT,
+        "fontSize": BODY_SIZE,
+        "leading": BODY_SIZE * 1.25,
+        "textColor": INK,
+        "shaping": 1,
+    }
     return ParagraphStyle(name, **{**base, **overrides})
 
 

@@ -1,8 +1,11 @@
-"""Content-Security-Policy on every response, built from the SECURE_CSP setting."""
+"""Middleware: the Content-Security-Policy header, and a request-size cap read before the body."""
 
 from __future__ import annotations
 
 from django.conf import settings
+from django.http import JsonResponse
+
+from .errors import error_body
 
 HEADER = "Content-Security-Policy"
 
@@ -29,3 +32,32 @@ class ContentSecurityPolicyMiddleware:
         if policy and HEADER not in response:
             response[HEADER] = policy_header(policy)
         return response
+
+
+class RequestSizeLimitMiddleware:
+    """Refuses a request whose declared body exceeds REQUEST_MAX_BYTES with 413, unread.
+
+    Django spools an uploaded file to disk before any view can look at its size; this
+    answers from the Content-Length header alone. It must come first in MIDDLEWARE, before
+    anything reads the body.
+    """
+
+    def __init__(self, get_response):
+        self.get_response = get_response
+
+    def __call__(self, request):
+        limit = settings.REQUEST_MAX_BYTES
+        try:
+            declared = int(request.META.get("CONTENT_LENGTH") or 0)
+        except ValueError:
+            declared = 0  # Django reads no body it cannot measure
+        if declared > limit:
+            multipart = request.META.get("CONTENT_TYPE", "").startswith("multipart/")
+            body = error_body(
+                "request_too_large",
+                f"The request body is {declared} bytes; at most {limit} are accepted "
+                f"(evidence files up to {settings.EVIDENCE_MAX_BYTES} bytes).",
+                field="file" if multipart else None,
+            )
+            return JsonResponse(body, status=413)
+        return self.get_response(request)

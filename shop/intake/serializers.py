@@ -224,6 +224,12 @@ class PartSerializer(serializers.Serializer):
         coerce_to_string=False,
     )
     note = serializers.CharField(max_length=500, required=False, allow_blank=True, default="")
+    note_for_customer = serializers.BooleanField(
+        required=False,
+        default=False,
+        help_text="Print the note on the customer's certificate; otherwise it stays in the "
+        "shop (stock bins, quotes, suppliers).",
+    )
 
     def to_internal_value(self, data):
         value = super().to_internal_value(data)

@@ -31,6 +31,9 @@ from .serializers import (
 DESK = frozenset({FRONT_DESK, LEAD})
 BENCH = frozenset({TECHNICIAN, LEAD})
 LEAD_ONLY = frozenset({LEAD})
+# Customer search covers only the fields the caller's role may read.
+CUSTOMER_CONTACT_SEARCH = ["name", "email", "phone"]
+CUSTOMER_NAME_SEARCH = ["name"]
 
 
 @extend_schema_view(
@@ -44,14 +47,24 @@ class CustomerViewSet(VersionedModelViewSet):
     """Customers. Technicians see names only; contact details are for the front desk and leads."""
 
     queryset = selectors.customer_list()
-    search_fields = ["name", "email", "phone"]
     ordering_fields = ["name", "created_at", "id"]
     role_rules = {"read": ANY_ROLE, "create": DESK, "update": DESK}
 
+    def _sees_contact_details(self) -> bool:
+        return getattr(self, "swagger_fake_view", False) or has_role(
+            self.request.user, FRONT_DESK, LEAD
+        )
+
+    @property
+    def search_fields(self) -> list[str]:
+        """Search only what the caller may read: a search on a hidden field would answer, one
+        match at a time, what the serializer keeps back."""
+        if self._sees_contact_details():
+            return CUSTOMER_CONTACT_SEARCH
+        return CUSTOMER_NAME_SEARCH
+
     def get_serializer_class(self):
-        if has_role(self.request.user, FRONT_DESK, LEAD) or getattr(
-            self, "swagger_fake_view", False
-        ):
+        if self._sees_contact_details():
             return CustomerSerializer
         return CustomerNameSerializer
 
@@ -235,6 +248,8 @@ class EvidenceViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets
         return FileResponse(
             evidence.file.open("rb"),
             as_attachment=True,
-            filename=evidence.label or f"evidence-{evidence.pk}{evidence.extension}",
+            # A name made from the record and the type found in the content, never the
+            # uploader's: theirs may carry a path, markup or a misleading extension.
+            filename=f"{evidence.job.number}-evidence-{evidence.pk}{evidence.extension}",
             content_type=evidence.content_type,
         )

@@ -72,6 +72,7 @@ INSTALLED_APPS = [
 # The header middleware come first, so that they also see the answers that later middleware
 # give on their own (redirects, CSRF refusals, lockouts). Axes comes last, as it asks.
 MIDDLEWARE = [
+    "shop.core.middleware.RequestSizeLimitMiddleware",
     "shop.core.middleware.ContentSecurityPolicyMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "django.middleware.security.SecurityMiddleware",
@@ -226,6 +227,10 @@ if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
 
 # Largest evidence upload accepted, in bytes.
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
+# Largest request body read at all: the largest evidence file plus room for the multipart
+# envelope and form fields. Larger requests are refused (413) before their body is read.
+REQUEST_SIZE_MARGIN = 1024 * 1024
+REQUEST_MAX_BYTES = EVIDENCE_MAX_BYTES + REQUEST_SIZE_MARGIN
 # Most readings one CSV import may carry (separate from the upload size limit).
 READINGS_CSV_MAX_ROWS = int(os.environ.get("READINGS_CSV_MAX_ROWS", "10000"))
 # Restore refuses an archive member that unpacks to more bytes than this (a zip bomb, a forged

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import os
+import shutil
+
 import pytest
 
 from shop.bench import services as bench
@@ -16,3 +19,22 @@ def closed_test(open_test, staff):
     bench.powerup_close(test=open_test, actor=staff["technician"])
     open_test.refresh_from_db()
     return open_test
+
+
+@pytest.fixture
+def pdftoppm():
+    """The pdftoppm program; a skip locally without it, a failure when CI is "true"."""
+    program = shutil.which("pdftoppm")
+    if program is None:
+        message = "pdftoppm is missing: apt-get install -y poppler-utils"
+        if os.environ.get("CI") == "true":
+            pytest.fail(message)
+        pytest.skip(message)
+    return program
+
+
+@pytest.fixture
+def own_media(settings, tmp_path):
+    """A media folder of this test's own, free of the files other tests left behind."""
+    settings.MEDIA_ROOT = str(tmp_path / "media")
+    return tmp_path / "media"

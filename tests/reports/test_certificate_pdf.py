@@ -172,7 +172,7 @@ def test_certificate_text_describes_the_unit_customer_and_set_up(example_text):
         "Orla Quennell",
         "Loud hum, no stations after warm-up.",
         "Replaced reservoir and smoothing",
-        "2 x 47 uF 450 V electrolytic",
+        "2 47 uF 450 V electrolytic reservoir and smoothing",
         "Variable autotransformer, 132 V at full dial",
         "Isolation transformer, 500 VA",
         "one 60 W 120 V gas-filled tungsten lamp",

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import io
-import os
 import re
 import shutil
 import subprocess
@@ -30,18 +29,6 @@ COLOUR_TOLERANCE = 10
 MIN_INK_SHARE = 0.002  # a page with a footer line and a heading already has more than this
 MIN_BAND_PIXELS = 2000  # the example's band fills about 3000 pixels at 100 dpi
 MIN_MARKER_PIXELS = 20  # its five hollow circles draw about 170
-
-
-@pytest.fixture
-def pdftoppm():
-    """The pdftoppm program; a skip locally without it, a failure when CI is "true"."""
-    program = shutil.which("pdftoppm")
-    if program is None:
-        message = "pdftoppm is missing: apt-get install -y poppler-utils"
-        if os.environ.get("CI") == "true":
-            pytest.fail(message)
-        pytest.skip(message)
-    return program
 
 
 def read_ppm(data: bytes) -> np.ndarray:
