@@ -19,7 +19,7 @@ from cold), where the judgement shoots for the periodic steady state.
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
-from shop.physics.judgement import Reading
+from shop.physics.judgement import BEFORE_RIG, Reading
 from shop.physics.lamp import Lamp
 from shop.physics.materials import TABLE_MAX_TEMPERATURE
 from shop.physics.switch_mode_start import CYCLING, DOES_NOT_START, switch_mode_switch_on
@@ -354,6 +354,8 @@ def readings(
                 lamp_bypassed=bypassed,
                 seconds_held=10.0,
                 seconds_since_switch_on=seconds_since_switch_on,
+                # The source here is the supply ahead of the rig's windings.
+                source_point=BEFORE_RIG,
             )
         )
     return taken
