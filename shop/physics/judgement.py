@@ -101,7 +101,7 @@ OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
 BEHAVIOURS = ("steady", "flash_then_dims", "cycling")
 
 # "Reached full source": the highest source reading must be at least this fraction of the rig's
-# nominal mains (DESIGN.md 3.3 asks for at least 90 %; ANSI C84.1 Range A puts 120 V service at
+# nominal mains (at least 90 %: ANSI C84.1 Range A puts 120 V service at
 # 114-126 V, 95-105 %, so 90 % of nominal is below any healthy mains).
 FULL_SOURCE_FRACTION = 0.9
 # A unit drawing twice its declared load is faulty, not merely off its nameplate (common

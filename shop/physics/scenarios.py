@@ -26,7 +26,7 @@ from shop.physics.switch_mode_start import CYCLING, DOES_NOT_START, switch_mode_
 from shop.physics.waveform import periodic_steady_state
 
 # Spread of the lamp that "really" sat in the rig, against the nominal lamp the judgement is
-# told about: +/-5 % rated power and +/-100 K rated filament temperature (issue 3).
+# told about: +/-5 % rated power and +/-100 K rated filament temperature (from memory).
 POWER_SPREAD = 0.05
 TEMPERATURE_SPREAD = 100.0  # [K]
 # The meter of the generated readings: within +/-(1 % + 0.5 V) and +/-(2 % + 5 mA), the

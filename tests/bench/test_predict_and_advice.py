@@ -170,7 +170,7 @@ def test_the_prediction_says_how_the_lamp_behaves_at_switch_on(client_for, db):
     }
     answer = client_for("technician").post("/api/predict/", body, format="json").json()
     switch_on = answer["switch_on"]
-    # A cold filament's inrush is many times its running current (DESIGN.md 3.2; the
+    # A cold filament's inrush is many times its running current (the
     # 10-15x of rated current for a lamp alone is checked in tests/physics).
     assert switch_on["inrush_peak_current"] > 3 * switch_on["steady_current"]
     # Into a fixed resistance the filament only warms towards its steady glow: no flash.
