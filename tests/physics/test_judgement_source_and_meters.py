@@ -7,6 +7,7 @@ import pytest
 from numpy.testing import assert_allclose
 
 from shop.physics import scenarios
+from shop.physics.advice import SUITABLE, TOO_LARGE, advise_lamp
 from shop.physics.judgement import (
     ALL_IN_BAND,
     BEFORE_RIG,
@@ -222,3 +223,52 @@ def test_the_doubling_margin_is_the_judgements_own_at_that_source():
     # The same corners solved the same way: rounding only (the verdict's band sits on the
     # noise-free reading's source, as the margin's does).
     assert_allclose([shift, needed], [full.sensitivity, full.sensitivity_needed], rtol=1e-9)
+
+
+def _small_supply(mains):
+    # A transformer, silicon bridge and reservoir feeding about 27 W of DC load.
+    return RectifierLoad(
+        mains, 2200e-6, topology="bridge", dc_resistance=34.0, turns_ratio=24 / mains
+    )
+
+
+@pytest.mark.parametrize("mains, frequency", [(120.0, 60.0), (230.0, 50.0)])
+@pytest.mark.parametrize("seed", [1, 2])
+def test_a_small_rectifier_unit_drawing_double_through_a_150_w_lamp_never_passes(
+    mains, frequency, seed
+):
+    unit = _small_supply(mains)
+    lamp = Lamp(mains, 150.0)
+    verdicts = {}
+    for draw in (1.0, 2.0):
+        rng = np.random.default_rng(seed)
+        readings = scenarios.readings(
+            scenarios.random_perturbed_lamp(lamp, rng),
+            unit.scaled(draw),
+            [0.25 * mains, 0.5 * mains, 0.75 * mains, mains],
+            rng,
+            frequency=frequency,
+        )
+        # Generated with no windings, so the supply is the rig's output: read there.
+        readings = [dataclasses.replace(r, source_point=RIG_OUTPUT) for r in readings]
+        verdicts[draw] = judge(
+            lamp,
+            unit,
+            readings,
+            nominal_source_voltage=mains,
+            source_resistance=2.0,
+            frequency=frequency,
+        )
+    assert verdicts[2.0].outcome in ("marginal", "fail", "inconclusive")
+    # A 150 W lamp is far too large for volts alone to tell a healthy unit from a doubled one.
+    assert verdicts[1.0].outcome == "inconclusive"
+    assert verdicts[1.0].codes == (LAMP_TOO_LARGE,)
+
+
+def test_the_advice_does_not_call_a_150_w_lamp_usable_for_a_27_w_rectifier_unit():
+    lamps = [Lamp(120.0, watts) for watts in (25.0, 40.0, 60.0, 100.0, 150.0)]
+    advice = advise_lamp(_small_supply(120.0), lamps, 120.0, source_resistance=2.0)
+    by_power = {lamps[entry.index].rated_power: entry for entry in advice}
+    assert by_power[150.0].suitability == TOO_LARGE
+    assert advice[0].suitability == SUITABLE
+    assert lamps[advice[0].index].rated_power <= 40.0
