@@ -23,7 +23,8 @@ rather than pass because the readings came from the same model.
 - Circuit: a supply of RMS volts ``supply`` behind the rig's windings (resistance
   ``windings``), the lamp and a resistive unit in series, all in phase; solved for the
   filament temperature with ``scipy.optimize.brentq``. The source is read at the rig's
-  output, after the windings, as a technician's meter reads it.
+  output, after the windings, as a technician's meter reads it. A transformer, bridge and
+  reservoir unit is stepped through the cycle on its own (``bridge_operating_point``).
 """
 
 from __future__ import annotations
@@ -171,3 +172,94 @@ def meter_reading(value, relative, absolute, rng):
     """A meter's reading of ``value``: Gaussian error of half its stated limit, clipped at it."""
     limit = relative * abs(value) + absolute
     return max(value + float(np.clip(rng.normal(0.0, limit / 2.0), -limit, limit)), 0.0)
+
+
+@dataclass(frozen=True)
+class BridgeSupply:
+    """A transformer, a silicon bridge and a reservoir capacitor feeding a resistive DC load.
+
+    The transformer is ideal but for its winding resistance referred to the secondary; each
+    conducting diode drops a fixed ``diode_drop``; no magnetising current.
+    """
+
+    turns_ratio: float  # secondary / primary
+    capacitance: float  # [F]
+    dc_resistance: float  # [ohm]
+    winding_resistance: float = 0.5  # [ohm] referred to the secondary
+    diode_drop: float = 0.8  # [V] per diode, silicon at a few amperes (from memory)
+
+    def doubled(self, factor):
+        """The same supply drawing ``factor`` times as much: the DC load divided."""
+        return BridgeSupply(
+            self.turns_ratio,
+            self.capacitance * factor,
+            self.dc_resistance / factor,
+            self.winding_resistance / factor,
+            self.diode_drop,
+        )
+
+
+SUPPLY_CYCLES = 15  # cycles from switch-on to the one measured; the reservoir settles in ~10
+SUPPLY_STEPS_PER_CYCLE = 600
+
+
+def _bridge_cycle(supply_unit, primary_resistance, supply, frequency):
+    """RMS primary current and the instantaneous supply and primary current over a last cycle.
+
+    Steps of a 600th of a cycle on the reservoir voltage (the stiff part, charging
+    through the referred resistance, is solved exactly within each step).
+    """
+    n = supply_unit.turns_ratio
+    referred = primary_resistance * n**2 + supply_unit.winding_resistance
+    period = 1.0 / frequency
+    step = period / SUPPLY_STEPS_PER_CYCLE
+    times = np.arange(SUPPLY_CYCLES * SUPPLY_STEPS_PER_CYCLE) * step
+    source = np.sqrt(2.0) * supply * np.sin(2.0 * np.pi * frequency * times)
+    reservoir = 0.0
+    charging = np.empty_like(times)
+    decay = step / (supply_unit.dc_resistance * supply_unit.capacitance)
+    for index, volts in enumerate(source):
+        drive = n * abs(volts) - 2.0 * supply_unit.diode_drop
+        if drive > reservoir:
+            # Charging through `referred` towards `drive` while the load discharges: the
+            # step's exact exponential for the two resistances in parallel.
+            tau = supply_unit.capacitance / (1.0 / referred + 1.0 / supply_unit.dc_resistance)
+            target = drive * supply_unit.dc_resistance / (supply_unit.dc_resistance + referred)
+            reservoir = target + (reservoir - target) * np.exp(-step / tau)
+            charging[index] = (drive - reservoir) / referred
+        else:
+            reservoir *= np.exp(-decay)
+            charging[index] = 0.0
+    last = slice((SUPPLY_CYCLES - 1) * SUPPLY_STEPS_PER_CYCLE, None)
+    primary = n * charging[last] * np.sign(source[last])
+    return primary, source[last]
+
+
+def bridge_operating_point(lamp, supply_unit, supply, windings=0.0, frequency=60.0):
+    """The bridge supply through the lamp from ``supply`` [V RMS] behind the windings.
+
+    The filament is held at one temperature through the cycle (its heat capacity smooths a
+    100-120 Hz ripple; the thermal time of a general-service filament is a tenth of a second
+    or more, from memory), found by brentq so that its mean power equals its loss.
+    """
+
+    def cycle(temperature):
+        resistance = float(lamp.resistance(temperature))
+        primary, source = _bridge_cycle(supply_unit, resistance + windings, supply, frequency)
+        return resistance, primary, source
+
+    def excess(temperature):
+        resistance, primary, _ = cycle(temperature)
+        return float(np.mean(primary**2) * resistance - lamp.loss(temperature))
+
+    temperature = brentq(excess, AMBIENT + 1e-6, HOTTEST, xtol=0.5)
+    resistance, primary, source = cycle(temperature)
+    rms = float(np.sqrt(np.mean(primary**2)))
+    return Point(
+        supply=supply,
+        rig_output=float(np.sqrt(np.mean((source - primary * windings) ** 2))),
+        load_voltage=float(np.sqrt(np.mean((source - primary * (windings + resistance)) ** 2))),
+        current=rms,
+        lamp_voltage=rms * resistance,
+        filament_temperature=float(temperature),
+    )

@@ -4,7 +4,9 @@ A confusion matrix over units (healthy, twice and three times the declared draw,
 short), both mains (120 V 60 Hz, 230 V 50 Hz), lamps from half to six times the unit's draw,
 and volts alone or volts and current. The readings come from a lamp model that shares no code
 or data with shop.physics, with the source read at the rig's output (after the windings), a
-lamp drawn from a production spread, and seeded meter noise on each of three meters.
+lamp drawn from a production spread, and seeded meter noise on each of three meters. Last, a
+small transformer-and-bridge unit through a lamp five times its draw, solved in the time domain
+by the reference's own rectifier.
 """
 
 from collections import Counter
@@ -16,6 +18,7 @@ from shop.physics.advice import SUITABLE, advise_lamp
 from shop.physics.judgement import RIG_OUTPUT, Reading, judge
 from shop.physics.lamp import Lamp
 from shop.physics.loads import ResistiveLoad
+from shop.physics.rectifier import RectifierLoad
 from tests.physics import reference
 
 # (nominal mains [V], frequency [Hz], declared draw [W], rig windings [ohm])
@@ -34,16 +37,28 @@ CLAMP_METER = (0.02, 0.005)
 # (general-service lamps, from memory).
 POWER_SPREAD, TEMPERATURE_SPREAD = 0.05, 80.0
 SEEDS = (1, 2)
+# The meters as the judgement is told of them.
+METERS = {
+    "meter_relative_accuracy": UNIT_METER[0],
+    "meter_absolute_accuracy": UNIT_METER[1],
+    "source_meter_relative_accuracy": SOURCE_METER[0],
+    "source_meter_absolute_accuracy": SOURCE_METER[1],
+}
+
+
+def _socket_lamp(nominal, power, rng):
+    """The lamp actually in the socket: one of the rating's production spread."""
+    return reference.ReferenceLamp.typical(
+        nominal,
+        power,
+        power_factor=1.0 + rng.uniform(-POWER_SPREAD, POWER_SPREAD),
+        temperature_shift=rng.uniform(-TEMPERATURE_SPREAD, TEMPERATURE_SPREAD),
+    )
 
 
 def _readings(mains, lamp_power, unit, with_current, rng):
     nominal, _, draw, windings = MAINS[mains]
-    lamp = reference.ReferenceLamp.typical(
-        nominal,
-        lamp_power,
-        power_factor=1.0 + rng.uniform(-POWER_SPREAD, POWER_SPREAD),
-        temperature_shift=rng.uniform(-TEMPERATURE_SPREAD, TEMPERATURE_SPREAD),
-    )
+    lamp = _socket_lamp(nominal, lamp_power, rng)
     multiple = rng.uniform(0.9, 1.1) if unit == "healthy" else MULTIPLE[unit]
     resistance = np.inf if multiple == 0 else nominal**2 / (draw * multiple)
     taken = []
@@ -73,10 +88,7 @@ def _advice(mains):
         nominal,
         source_resistance=windings,
         frequency=frequency,
-        meter_relative_accuracy=UNIT_METER[0],
-        meter_absolute_accuracy=UNIT_METER[1],
-        source_meter_relative_accuracy=SOURCE_METER[0],
-        source_meter_absolute_accuracy=SOURCE_METER[1],
+        **METERS,
     )
 
 
@@ -102,10 +114,7 @@ def _matrix():
                             nominal_source_voltage=nominal,
                             source_resistance=windings,
                             frequency=frequency,
-                            meter_relative_accuracy=UNIT_METER[0],
-                            meter_absolute_accuracy=UNIT_METER[1],
-                            source_meter_relative_accuracy=SOURCE_METER[0],
-                            source_meter_absolute_accuracy=SOURCE_METER[1],
+                            **METERS,
                             current_relative_accuracy=CLAMP_METER[0],
                             current_absolute_accuracy=CLAMP_METER[1],
                         )
@@ -189,3 +198,48 @@ def test_the_share_of_healthy_units_passing_with_the_advised_lamp_is_reported(ma
     # Healthy units drawn within +/-10 % through the advised lamp read in band at full source:
     # most must pass, or the advice and the band disagree.
     assert share >= 0.75
+
+
+def _bridge_readings(mains, draw, rng):
+    nominal, frequency, _, windings = MAINS[mains]
+    lamp = _socket_lamp(nominal, 150.0, rng)
+    unit = reference.BridgeSupply(24.0 / nominal, 2200e-6, 34.0).doubled(draw)
+    taken = []
+    for step in SUPPLY_STEPS:
+        point = reference.bridge_operating_point(lamp, unit, step * nominal, windings, frequency)
+        taken.append(
+            Reading(
+                source_voltage=reference.meter_reading(point.rig_output, *SOURCE_METER, rng),
+                load_voltage=reference.meter_reading(point.load_voltage, *UNIT_METER, rng),
+                source_point=RIG_OUTPUT,
+            )
+        )
+    return taken
+
+
+@pytest.mark.parametrize("mains", list(MAINS))
+def test_a_27_w_transformer_and_bridge_unit_through_a_150_w_lamp_on_volts_alone(mains):
+    # A small supply (transformer, silicon bridge, 2200 uF, about 27 W) read with volts only
+    # through a lamp more than five times its draw: a doubled draw must not pass, and a
+    # healthy unit must not fail.
+    nominal, frequency, _, windings = MAINS[mains]
+    declared = RectifierLoad(
+        nominal, 2200e-6, topology="bridge", dc_resistance=34.0, turns_ratio=24.0 / nominal
+    )
+    outcomes = {}
+    for draw in (1.0, 2.0):
+        verdict = judge(
+            Lamp(nominal, 150.0),
+            declared,
+            _bridge_readings(mains, draw, np.random.default_rng([7, int(draw)])),
+            nominal_source_voltage=nominal,
+            source_resistance=windings,
+            frequency=frequency,
+            **METERS,
+        )
+        outcomes[draw] = verdict.outcome
+    print(
+        f"\n27 W bridge unit through 150 W on {mains}: healthy {outcomes[1.0]}, 2x {outcomes[2.0]}"
+    )
+    assert outcomes[2.0] != "pass"
+    assert outcomes[1.0] != "fail"
