@@ -21,7 +21,7 @@ through:
 The settings are production's (``shop.settings.bench``, plain HTTP on loopback) with
 persistent database connections (DATABASE_CONN_MAX_AGE). Figures print side by side per
 database, each beside the bare view measured the same way in the same run. The aims
-(issue 7): job detail under 15 ms median, list under 40 ms, query counts constant, and
+(the aims): job detail under 15 ms median, list under 40 ms, query counts constant, and
 job-detail reads at 300 requests per second or more.
 """
 

@@ -5,7 +5,7 @@ ngspice (the Debian package) solving the same circuit in the same run, with the 
 by a fixed resistor of the resistance our solution gives it (the lamp is steady over a cycle),
 or for the switch-ons with the lamp's filament's and the heaters' heat balances written as
 ngspice behavioural sources. Exits non-zero when ngspice is missing or when the figures
-disagree by more than issue 6's 2 %.
+disagree by more than the 2 % the models are held to.
 """
 
 import statistics
@@ -29,9 +29,9 @@ from shop.physics.transformer import magnetising_current  # noqa: E402
 from shop.physics.waveform import Network  # noqa: E402
 from tests.physics import spice  # noqa: E402
 
-AGREEMENT = 0.02  # issue 6: RMS and peak current and DC volts within 2 % of ngspice
-STEADY_AIM = 0.300  # [s] issue 6: a rectifier unit's 20 source steps under 300 ms
-SWITCH_ON_AIM = 0.200  # [s] issue 6: one switch-on of 1 s under 200 ms
+AGREEMENT = 0.02  # RMS and peak current and DC volts within 2 % of ngspice
+STEADY_AIM = 0.300  # [s] aim: a rectifier unit's 20 source steps under 300 ms
+SWITCH_ON_AIM = 0.200  # [s] aim: one switch-on of 1 s under 200 ms
 REPEATS = 7
 STEPS = np.linspace(6.0, 120.0, 20)  # [V] the 20 source steps of a power-up
 WINDINGS = 2.0  # [ohm] the rig

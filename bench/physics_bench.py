@@ -27,8 +27,8 @@ from shop.physics.materials import TABLE_MAX_TEMPERATURE
 from shop.physics.nameplate import unit_load_from_nameplate
 
 SWEEP_POINTS = 1000
-SWEEP_AGREEMENT = 1e-6  # [V] issue 3: the sweep agrees with the scalar reference to 1e-6 V
-SWEEP_SPEED_AIM = 200.0  # issue 3: at least 200x faster than the reference
+SWEEP_AGREEMENT = 1e-6  # [V] aim: the sweep agrees with the scalar reference to 1e-6 V
+SWEEP_SPEED_AIM = 200.0  # aim: at least 200x faster than the reference
 FIGURE_AGREEMENT = 1e-6  # [V] band, prediction and sensitivity of judge and advice
 DRAW_AGREEMENT = 1e-5  # relative, inferred draw (the judgement polishes to about 1e-7)
 VECTORISED_REPEATS = 21

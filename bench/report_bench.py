@@ -34,7 +34,7 @@ EXAMPLE = Path(__file__).resolve().parent.parent / "tests/reports/data/certifica
 READINGS = 25
 IN_A_ROW = 100
 REPEATS = 41
-AIM_MS = 150.0  # issue 5: under 150 ms a certificate, alone and 100 in a row
+AIM_MS = 150.0  # aim: under 150 ms a certificate, alone and 100 in a row
 
 
 def snapshot_with_readings(count: int) -> dict:

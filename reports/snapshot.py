@@ -16,21 +16,14 @@ from shop.core.safety import LIVE_CHASSIS_NOTE, caveats
 from shop.intake.facts import changed_rule_fields, unit_facts
 from shop.intake.models import Job
 
+from .outcomes import OUTCOME_HEADLINES, OUTCOME_WORDS
+
 SCHEMA = "certificate/1"
 CURVE_POINTS = 41
 STATEMENT = (
     "This is a power-up test certificate: a functional check of the unit under a series-lamp "
     "current limiter. It is not an electrical safety inspection or approval."
 )
-OUTCOME_WORDS = {
-    "pass": "Pass: at every step up to full source the unit drew what a healthy unit of the "
-    "declared load draws through this lamp.",
-    "marginal": "Marginal: the unit drew outside the healthy band but short of a clear fault; "
-    "see the reasons.",
-    "fail": "Fail: the unit drew what a healthy unit does not; see the reasons.",
-    "inconclusive": "Inconclusive: these readings cannot tell a healthy unit from a faulty one; "
-    "see the reasons.",
-}
 AMMETER_ROLE = "Ammeter"
 METER_ROLES = (
     ("source_meter", "Source voltmeter"),
@@ -297,6 +290,7 @@ def _test(test: PowerUpTest, override: dict | None) -> dict:
         "warnings": list(test.warnings),
         "ambient_temperature": _ambient(test.ambient_temperature),
         "outcome": verdict.outcome,
+        "headline": OUTCOME_HEADLINES[verdict.outcome],
         "outcome_words": OUTCOME_WORDS[verdict.outcome],
         "reasons": [{"code": r["code"], "message": r["message"]} for r in verdict.reasons],
         "readings": readings,

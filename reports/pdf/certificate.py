@@ -11,6 +11,7 @@ from reportlab.platypus import CondPageBreak, KeepTogether, Paragraph, Spacer, T
 
 from shop.bench import switch_on_look as look
 
+from ..outcomes import OUTCOME_HEADLINES
 from . import formatting as fmt
 from .formatting import text
 from .layout import (
@@ -151,11 +152,17 @@ def _test_name(test: dict, index: int, count: int, zone: str) -> str:
     return f"{name}, {fmt.day(test.get('closed_at'), zone)}"
 
 
+def _headline(test: dict) -> str:
+    """What was found, in words; snapshots issued before headlines were stored get theirs
+    from the outcome."""
+    return test.get("headline") or OUTCOME_HEADLINES[test["outcome"]]
+
+
 def _outcome(test: dict, index: int, count: int, width: float, zone: str) -> Table:
     colour = OUTCOME_COLOURS.get(test["outcome"], WARNING)
     left = [
         Paragraph(
-            f'<font color="{colour.hexval()}">{text(test["outcome"]).upper()}</font>',
+            f'<font color="{colour.hexval()}">{text(_headline(test))}</font>',
             STYLES["outcome"],
         ),
         Paragraph(OUTCOME_SCOPE, STYLES["muted"]),

@@ -7,6 +7,8 @@ column             meaning                                                requir
 =================  =====================================================  ========
 source_v           source volts [V RMS]                                   one of
 dial_pct           source dial setting [%], on a rig with its 100 % volts  these
+source_point       where source_v was read: rig_output or before_rig      no
+                   (default: where the rig's built-in meter reads)
 load_v             unit volts [V RMS]                                     yes
 current_a          current into the unit [A RMS]                          no
 glow               dark, faint, dull, medium or bright                    yes
@@ -35,6 +37,7 @@ from .serializers import ReadingSerializer
 COLUMNS = {
     "source_v": "source_voltage",
     "dial_pct": "dial_percent",
+    "source_point": "source_point",
     "load_v": "load_voltage",
     "current_a": "current",
     "glow": "glow_seen",

@@ -14,6 +14,7 @@ from .physics_inputs import limiter_parameters, modelled_ambient, physics_limite
 
 READING_FIELDS = (
     "source_voltage",
+    "source_point",
     "load_voltage",
     "current",
     "glow_seen",
@@ -40,6 +41,11 @@ def verdict_inputs(test: PowerUpTest, readings: list[Reading]) -> dict:
 
     The rig's nominal mains and frequency are those frozen when the test opened, and the
     unit facts the test was opened on travel with the verdict.
+
+    Each quantity is judged with the meter that read it: the source with the test's source
+    meter, else the rig's built-in meter, else the unit's meter; the unit volts with the
+    load meter, else the source meter (one meter read both); the current with the current
+    meter. Current read with no current meter recorded has no known response.
     """
     rig = test.rig
     frozen = test.rig_facts or {}
@@ -54,6 +60,7 @@ def verdict_inputs(test: PowerUpTest, readings: list[Reading]) -> dict:
         "unit_facts": test.unit_facts,
         "warnings": list(test.warnings),
         "voltmeter": _meter(test.load_meter or test.source_meter or rig.builtin_meter),
+        "source_meter": _meter(test.source_meter or rig.builtin_meter or test.load_meter),
         "ammeter": _meter(test.current_meter),
         "readings": [{name: getattr(r, name) for name in READING_FIELDS} for r in readings],
     }
@@ -68,12 +75,20 @@ def judge_inputs(inputs: dict) -> judgement.Verdict:
             meter_absolute_accuracy=inputs["voltmeter"]["absolute"],
             voltmeter_response=inputs["voltmeter"]["response"],
         )
+    if inputs.get("source_meter"):
+        options.update(
+            source_meter_relative_accuracy=inputs["source_meter"]["relative"],
+            source_meter_absolute_accuracy=inputs["source_meter"]["absolute"],
+            source_meter_response=inputs["source_meter"]["response"],
+        )
     if inputs["ammeter"]:
         options.update(
             current_relative_accuracy=inputs["ammeter"]["relative"],
             current_absolute_accuracy=inputs["ammeter"]["absolute"],
             ammeter_response=inputs["ammeter"]["response"],
         )
+    else:
+        options.update(ammeter_response=judgement.UNKNOWN_RESPONSE)
     return judgement.judge(
         physics_limiter(inputs["limiter"], inputs["ambient_temperature"]),
         physics_load(inputs["declared_load"]),

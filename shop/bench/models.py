@@ -114,6 +114,13 @@ class CalibrationRecord(AppendOnly):
         return f"{self.instrument}: due {self.due_on}"
 
 
+class SourcePoint(models.TextChoices):
+    """Where a reading's source volts were read: the windings' drop lies behind or ahead of it."""
+
+    RIG_OUTPUT = "rig_output", "At the rig's output"
+    BEFORE_RIG = "before_rig", "Before the rig's windings"
+
+
 class SourceKind(models.TextChoices):
     VARIABLE_AUTOTRANSFORMER = "variable_autotransformer", "Variable autotransformer"
     FIXED_MAINS = "fixed_mains", "Fixed mains"
@@ -164,6 +171,13 @@ class Rig(Versioned):
     internal_resistance_measured = models.BooleanField(default=False)
     builtin_meter = models.ForeignKey(
         Instrument, on_delete=models.PROTECT, null=True, blank=True, related_name="+"
+    )
+    builtin_meter_point = models.CharField(
+        max_length=12,
+        choices=SourcePoint.choices,
+        default=SourcePoint.RIG_OUTPUT,
+        help_text="Where the rig's built-in meter reads the source; readings that do not "
+        "say where their source volts were read are taken as read there.",
     )
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
@@ -431,6 +445,12 @@ class Reading(models.Model):
     test = models.ForeignKey(PowerUpTest, on_delete=models.CASCADE, related_name="readings")
     sequence = models.PositiveIntegerField()
     source_voltage = models.FloatField(help_text="[V RMS]")
+    source_point = models.CharField(
+        max_length=12,
+        choices=SourcePoint.choices,
+        default=SourcePoint.RIG_OUTPUT,
+        help_text="Where the source volts were read: at the rig's output, or before its windings.",
+    )
     dial_percent = models.FloatField(null=True, blank=True)
     load_voltage = models.FloatField(help_text="[V RMS]")
     current = models.FloatField(null=True, blank=True, help_text="[A RMS]")

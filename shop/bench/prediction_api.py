@@ -164,11 +164,16 @@ class AdviceEntrySerializer(serializers.Serializer):
     lamp_id = serializers.IntegerField(allow_null=True)
     bank_id = serializers.IntegerField(allow_null=True)
     suitability = serializers.CharField()
-    fault_current = serializers.FloatField()
-    load_voltage = serializers.FloatField()
-    load_fraction = serializers.FloatField()
-    sensitivity = serializers.FloatField()
-    meter_uncertainty = serializers.FloatField()
+    fault_current = serializers.FloatField(allow_null=True)
+    load_voltage = serializers.FloatField(allow_null=True)
+    load_fraction = serializers.FloatField(allow_null=True)
+    sensitivity = serializers.FloatField(allow_null=True)
+    meter_uncertainty = serializers.FloatField(allow_null=True)
+    sensitivity_needed = serializers.FloatField(
+        allow_null=True,
+        help_text="How far a doubling of draw must move the unit's volts to leave a healthy "
+        "unit's band (lamp spread, load tolerance, both meters) [V].",
+    )
     lamp_glow = serializers.CharField()
     reason = serializers.CharField()
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 from dataclasses import asdict
 from types import SimpleNamespace
 
@@ -328,7 +329,13 @@ def _advice_entries(rig: Rig, document: dict) -> list[dict]:
     entries = []
     for item in ranked:
         lamp, bank, _ = candidates[item.index]
-        entry = {key: value for key, value in asdict(item).items() if key != "index"}
+        # JSON has no NaN: a figure a lamp cannot give (rated below the source, or a unit that
+        # cannot run through it) is null.
+        entry = {
+            key: None if isinstance(value, float) and not math.isfinite(value) else value
+            for key, value in asdict(item).items()
+            if key != "index"
+        }
         entry.update(lamp_id=lamp.pk if lamp else None, bank_id=bank.pk if bank else None)
         entries.append(entry)
     return entries

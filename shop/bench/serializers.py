@@ -18,6 +18,7 @@ from .models import (
     PowerUpTest,
     Reading,
     Rig,
+    SourcePoint,
     Verdict,
 )
 from .selectors import calibration_state
@@ -119,6 +120,7 @@ class RigSerializer(serializers.ModelSerializer):
             "internal_resistance",
             "internal_resistance_measured",
             "builtin_meter",
+            "builtin_meter_point",
             "version",
             "created_at",
             "updated_at",
@@ -304,6 +306,13 @@ class ReadingSerializer(serializers.ModelSerializer):
     """One power-up step; give source volts, or dial percent on a rig with its 100 % figure."""
 
     source_voltage = serializers.FloatField(required=False, min_value=0, max_value=1000)
+    source_point = serializers.ChoiceField(
+        choices=SourcePoint.choices,
+        required=False,
+        help_text="Where the source volts were read. Default: where the rig's built-in meter "
+        "reads (rig_output unless the rig says otherwise), or before_rig for a source given "
+        "as dial_percent (the dial's figure is the rig's unloaded output).",
+    )
     dial_percent = serializers.FloatField(
         required=False, min_value=0, max_value=100, allow_null=True
     )
@@ -326,6 +335,7 @@ class ReadingSerializer(serializers.ModelSerializer):
             "id",
             "sequence",
             "source_voltage",
+            "source_point",
             "dial_percent",
             "load_voltage",
             "current",

@@ -30,6 +30,7 @@ from .models import (
     PowerUpTest,
     Reading,
     Rig,
+    SourcePoint,
     TestStatus,
 )
 from .physics_inputs import lamp_parameters
@@ -56,6 +57,7 @@ RIG_FIELDS = (
     "internal_resistance",
     "internal_resistance_measured",
     "builtin_meter",
+    "builtin_meter_point",
 )
 LAMP_FIELDS = (
     "label",
@@ -86,6 +88,7 @@ MAX_READING_CURRENT = 50.0  # [A]
 MAX_READINGS_PER_TEST = 10_000
 READING_AUDIT_FIELDS = (
     "source_voltage",
+    "source_point",
     "load_voltage",
     "current",
     "glow_seen",
@@ -546,6 +549,10 @@ def _reading_from(test: PowerUpTest, sequence: int, data: dict, field_prefix: st
                 field=f"{field_prefix}dial_percent",
             )
         data["source_voltage"] = float(rig.output_at_full_dial) * dial / 100
+        # The dial's figure is the rig's unloaded output: the windings' drop comes after it.
+        data.setdefault("source_point", SourcePoint.BEFORE_RIG)
+    # A source read without saying where was read where the rig's own meter reads it.
+    data.setdefault("source_point", rig.builtin_meter_point)
     limit = rig.full_source_voltage * SOURCE_HEADROOM
     if data["source_voltage"] > limit:
         raise ApplicationError(

@@ -1,4 +1,4 @@
-"""The safety caveats every prediction answer and certificate carries (DESIGN.md section 6)."""
+"""The safety caveats every prediction answer and certificate carries."""
 
 PRECEDENCE = (
     "Local electrical codes and licensed practice take precedence over anything this service says."

@@ -36,7 +36,7 @@ from shop.physics.transient import SwitchOnTransient, switch_on
 
 # The version of the physics: bump it when a prediction for the same input changes, so that
 # stored verdicts say which physics judged them (with data_fingerprint() for the data files).
-PHYSICS_VERSION = "1.2.0"
+PHYSICS_VERSION = "1.3.0"
 
 __all__ = [
     "BEHAVIOURS",

@@ -33,15 +33,23 @@ GLOW_CLASSES = ("dark", "faint", "dull", "medium", "bright")
 
 # Class limits as luminance relative to the same lamp at its rated temperature. By this module
 # a filament at 2700-2900 K has a luminance of 6e6-1e7 cd/m^2, so for a lamp rated at 2775 K
-# the limits fall at the absolute luminances and temperatures below. The limits are common
-# practice, no source; the comparison luminances are recalled from lighting texts (from memory):
-# - FAINT_LIMIT 1e-4, about 700 cd/m^2 (about 1360 K), dull red: a few times white paper
-#   under workshop lighting (100-200 cd/m^2); a filament a fraction of a millimetre thick at
-#   that luminance is easy to miss in a lit room and plain in a dim one.
-# - DULL_LIMIT 1e-2, about 7e4 cd/m^2 (about 1840 K), orange: a few times the surface of a
-#   fluorescent tube (1e4-2e4 cd/m^2); plainly lit in a lit room, still easy to look at.
-# - MEDIUM_LIMIT 0.2, about 1.4e6 cd/m^2 (about 2360 K), yellow-white and glaring to look at
-#   directly; above it the lamp looks close to its full brightness.
+# the limits fall at the absolute luminances and temperatures below. Each limit rests on an
+# outside figure and a trade fact, and tests/physics/test_glow.py checks it against them:
+# - FAINT_LIMIT 1e-4, about 700 cd/m^2 (about 1360 K), dull red. Outside figures (from
+#   memory): fine bench work is lit to about 500 lx (EN 12464-1, lighting of indoor work
+#   places), and white paper reflects about 0.8 of it, so the bench's bright surfaces sit near
+#   130 cd/m^2. Trade fact (common practice, no source): a filament a fraction of a millimetre
+#   thick is seen at a glance only when it outshines its lit background several-fold; this
+#   limit is 3-10 times the paper, plain in a dim room and easy to miss in a lit one.
+# - DULL_LIMIT 1e-2, about 7e4 cd/m^2 (about 1840 K), orange. Outside figure (from memory):
+#   the surface of a fluorescent tube, about 1e4-2e4 cd/m^2 (lighting handbooks). Trade fact
+#   (common practice, no source): a dull glow is plainly lit in a lit room yet comfortable to
+#   look at, as a tube is; this limit is 2-10 times the tube's surface.
+# - MEDIUM_LIMIT 0.2, about 1.4e6 cd/m^2 (about 2360 K), yellow-white. Outside figure: light
+#   output near rating goes as V^3.4 (IES Lighting Handbook; Van Horn, J. IES, 1965; from
+#   memory), so a fifth of the rated luminance is reached at about 62 % of the lamp's rated
+#   volts. Trade fact (common practice, no source): with more than about 60 % of its rated
+#   volts across it a lamp looks close to full brightness, the "bright" a short gives.
 FAINT_LIMIT = 1e-4
 DULL_LIMIT = 1e-2
 MEDIUM_LIMIT = 0.2

@@ -17,7 +17,7 @@ Outcomes
 ``inconclusive``
     Every reading is in band, but none reached ``full_source_fraction``
     (default 0.9) of the nominal mains, or none of those that did could tell a
-    doubling of draw from the meter's uncertainty (the lamp is too large).
+    doubling of draw from a healthy unit's band (the lamp is too large).
 ``pass``
     Every reading is in band, the test reached full source, and there a
     doubling of draw would have shown.
@@ -42,7 +42,10 @@ Reason codes (module constants; each reason carries a sentence with the numbers)
   connection, a thermal cut-out, or a unit that is not what was declared.
 - ``source_not_full`` (inconclusive): no reading reached full source.
 - ``lamp_too_large`` (inconclusive): at full source a doubling of draw moves
-  the reading by less than the meter's uncertainty.
+  the reading by less than the healthy band's own width (lamp spread, load
+  tolerance) plus both meters' uncertainty, so a unit drawing twice its load
+  could read in band; the sentence says to use a smaller lamp or measure the
+  current.
 - ``bypass_without_current`` (inconclusive): the only full-source readings
   were taken with the lamp bypassed and no current measured, so the unit's
   volts follow the source whatever it draws.
@@ -55,6 +58,10 @@ Reason codes (module constants; each reason carries a sentence with the numbers)
 - ``reading_not_settled`` (inconclusive): the reading was taken later than the
   switch-on the judgement follows (``SWITCH_ON_SECONDS``, three minutes), and a
   healthy unit is still settling then (heaters slower than any valve's).
+- ``current_not_judged`` (a note, no change to the outcome): current was read
+  on a meter whose response was not recorded, on a unit whose current flows in
+  peaks (a rectifier): true-RMS and average-responding meters read it tens of
+  per cent apart, so the readings are judged on the unit volts alone.
 - ``all_in_band`` (pass).
 
 Readings that give the seconds since switch-on are judged against the switch-on transient
@@ -94,7 +101,7 @@ OUTCOMES = ("pass", "marginal", "fail", "inconclusive")
 BEHAVIOURS = ("steady", "flash_then_dims", "cycling")
 
 # "Reached full source": the highest source reading must be at least this fraction of the rig's
-# nominal mains (DESIGN.md 3.3 asks for at least 90 %; ANSI C84.1 Range A puts 120 V service at
+# nominal mains (at least 90 %: ANSI C84.1 Range A puts 120 V service at
 # 114-126 V, 95-105 %, so 90 % of nominal is below any healthy mains).
 FULL_SOURCE_FRACTION = 0.9
 # A unit drawing twice its declared load is faulty, not merely off its nameplate (common
@@ -120,9 +127,23 @@ METER_ABSOLUTE_ACCURACY = 0.5  # [V]
 # memory), rounded up for the clamp meters many benches use.
 CURRENT_RELATIVE_ACCURACY = 0.02
 CURRENT_ABSOLUTE_ACCURACY = 0.005  # [A]
-# A reading can tell a fault when a doubling of draw moves it by at least this multiple of the
-# meter's uncertainty (DESIGN.md 3.3: below the uncertainty the lamp is too large to tell).
+# A reading can tell a fault when a doubling of draw moves it by at least this multiple of what
+# the healthy band and the meters allow: the healthy unit's room below its prediction (lamp
+# spread, load tolerance, source and unit meters) plus a doubled unit's room above its own (lamp
+# spread, both meters). At 1 the two bands just do not overlap, so a doubled unit cannot read in
+# band.
 MIN_SENSITIVITY_RATIO = 1.0
+
+# Where the source volts were read. Before the rig the reading is the supply ahead of the rig's
+# windings (the source resistance lies between it and the lamp); at the rig output, where a
+# bench meter or a panel meter usually sits, the windings' drop is already behind the reading
+# and the circuit from there is lamp and unit alone. The source is modelled as a sine at the
+# point it was read, so a true-RMS and an average-responding meter read it alike.
+BEFORE_RIG = "before_rig"
+RIG_OUTPUT = "rig_output"
+SOURCE_POINTS = (RIG_OUTPUT, BEFORE_RIG)
+# A meter whose response (true RMS or average responding) was not recorded.
+UNKNOWN_RESPONSE = "unknown"
 
 # Inferred draw is searched between these multiples of the declared load; a reading beyond
 # them is reported as 0 (no measurable draw) or inf (a dead short or worse), and one whose
@@ -146,6 +167,7 @@ LAMP_TOO_LARGE = "lamp_too_large"
 BYPASS_WITHOUT_CURRENT = "bypass_without_current"
 LOAD_CANNOT_RUN = "load_cannot_run"
 READING_NOT_SETTLED = "reading_not_settled"
+CURRENT_NOT_JUDGED = "current_not_judged"
 ALL_IN_BAND = "all_in_band"
 
 # The outcome each reason code leads to; the verdict takes the worst present.
@@ -163,6 +185,8 @@ REASON_OUTCOMES = {
     BYPASS_WITHOUT_CURRENT: "inconclusive",
     LOAD_CANNOT_RUN: "inconclusive",
     READING_NOT_SETTLED: "inconclusive",
+    # A note: the verdict rests on the unit volts alone, whatever its outcome.
+    CURRENT_NOT_JUDGED: "pass",
     ALL_IN_BAND: "pass",
 }
 OUTCOME_SEVERITY = ("pass", "inconclusive", "marginal", "fail")
@@ -231,6 +255,10 @@ class Reading:
         How long the step was held [s]; kept for the record.
     seconds_since_switch_on : float, optional
         Time from switch-on to the reading [s]; kept for the record.
+    source_point : str, default ``RIG_OUTPUT``
+        Where ``source_voltage`` was read, one of ``SOURCE_POINTS``: at the rig's
+        output (``"rig_output"``: the rig's windings lie before it) or before the
+        rig (``"before_rig"``: the windings lie between it and the lamp).
     """
 
     source_voltage: float
@@ -241,6 +269,7 @@ class Reading:
     lamp_bypassed: bool = False
     seconds_held: float | None = None
     seconds_since_switch_on: float | None = None
+    source_point: str = RIG_OUTPUT
 
     def __post_init__(self):
         for name, unit in (("source_voltage", "V"), ("load_voltage", "V")):
@@ -265,6 +294,11 @@ class Reading:
         if not isinstance(self.lamp_bypassed, bool | np.bool_):
             raise ValueError(f"lamp_bypassed must be True or False (got {self.lamp_bypassed!r})")
         object.__setattr__(self, "lamp_bypassed", bool(self.lamp_bypassed))
+        if self.source_point not in SOURCE_POINTS:
+            raise ValueError(
+                f"source_point must be one of {', '.join(SOURCE_POINTS)} "
+                f"(got {self.source_point!r})"
+            )
 
 
 @dataclass(frozen=True)
@@ -326,7 +360,8 @@ class ReadingJudgement:
     meter_uncertainty : float
         Uncertainty of the measured quantity here [V or A, as ``measured``].
     sensitive : bool
-        Whether a doubling of draw shows above the meter's uncertainty.
+        Whether a doubling of draw moves the reading out of the healthy band:
+        ``sensitivity`` (or ``current_sensitivity``) at least ``sensitivity_needed``.
     predicted_state : str
         What a healthy unit does here, one of ``shop.physics.circuit.OPERATING_STATES``;
         with ``no_operating_point`` the predictions are NaN and the glow words empty.
@@ -335,6 +370,12 @@ class ReadingJudgement:
         cycling glow is to be expected.
     judged_against : str
         ``"steady_state"``, or ``"switch_on"`` when taken before a healthy unit settles.
+    sensitivity_needed : float
+        How far a doubling must move the measured quantity to leave the healthy band [V or
+        A]: the band's room below the healthy prediction (lamp spread, load tolerance, both
+        meters) plus a doubled unit's room above its own (lamp spread, both meters).
+    source_point : str
+        Where the source volts were read, one of ``SOURCE_POINTS``.
     """
 
     index: int
@@ -360,6 +401,8 @@ class ReadingJudgement:
     predicted_state: str = STEADY
     may_cycle: bool = False
     judged_against: str = "steady_state"
+    sensitivity_needed: float = float("nan")
+    source_point: str = RIG_OUTPUT
 
 
 @dataclass(frozen=True)
@@ -438,51 +481,261 @@ def _on_last_axis(values, mask):
     return values
 
 
-def _predict(lamp, load, factor, source_voltage, bypassed, source_resistance, frequency, responses):
+def _circuits(bypassed, at_output, source_resistance):
+    """Groups of readings solved alike: lamp in or bypassed, source read before or after the rig.
+
+    Read at the rig's output, the windings' drop is already behind the reading: from there the
+    circuit is lamp and unit alone, so those readings are solved with no source resistance.
+    Yields each group's mask, whether its lamp is bypassed, and its source resistance [ohm].
+    """
+    for lamp_out in (False, True):
+        for output in (False, True):
+            mask = (bypassed == lamp_out) & (at_output == output)
+            if mask.any():
+                yield mask, lamp_out, 0.0 if output else source_resistance
+
+
+def _predict(
+    lamp, load, factor, source_voltage, bypassed, at_output, source_resistance, frequency, responses
+):
     """Unit volts, current, glow and state for ``load.scaled(factor)``, lamp in or bypassed."""
     shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
     load_voltage = np.empty(shape)
     current = np.empty(shape)
     glow = np.empty(shape, dtype=f"<U{max(map(len, GLOW_CLASSES))}")
     state = np.empty(shape, dtype=f"<U{len(NO_OPERATING_POINT)}")
-    for mask, solve in ((~bypassed, solve_series), (bypassed, solve_bypassed)):
-        if mask.any():
-            result = solve(
-                lamp,
-                load.scaled(_on_last_axis(factor, mask)),
-                source_voltage[mask],
-                source_resistance,
-                frequency,
-            )
-            load_voltage[..., mask] = meter_view(
-                result.load_voltage, result.average_load_voltage, responses[0]
-            )
-            current[..., mask] = meter_view(result.current, result.average_current, responses[1])
-            glow[..., mask] = result.glow
-            state[..., mask] = result.state
+    for mask, lamp_out, resistance in _circuits(bypassed, at_output, source_resistance):
+        solve = solve_bypassed if lamp_out else solve_series
+        result = solve(
+            lamp,
+            load.scaled(_on_last_axis(factor, mask)),
+            source_voltage[mask],
+            resistance,
+            frequency,
+        )
+        load_voltage[..., mask] = meter_view(
+            result.load_voltage, result.average_load_voltage, responses[0]
+        )
+        current[..., mask] = meter_view(result.current, result.average_current, responses[1])
+        glow[..., mask] = result.glow
+        state[..., mask] = result.state
     return load_voltage, current, glow, state
 
 
 def _predict_meters(
-    lamp, load, factor, source_voltage, bypassed, source_resistance, frequency, responses
+    lamp, load, factor, source_voltage, bypassed, at_output, source_resistance, frequency, responses
 ):
     """Unit volts and current for ``load.scaled(factor)``: what the meters read, no glow."""
     shape = np.broadcast_shapes(np.shape(factor), source_voltage.shape)
     load_voltage = np.empty(shape)
     current = np.empty(shape)
-    for mask in (~bypassed, bypassed):
-        if mask.any():
-            load_voltage[..., mask], current[..., mask] = meter_readings(
-                lamp,
-                load.scaled(_on_last_axis(factor, mask)),
-                source_voltage[mask],
-                source_resistance,
-                frequency,
-                lamp_bypassed=bool(mask is bypassed),
-                voltmeter_response=responses[0],
-                ammeter_response=responses[1],
-            )
+    for mask, lamp_out, resistance in _circuits(bypassed, at_output, source_resistance):
+        load_voltage[..., mask], current[..., mask] = meter_readings(
+            lamp,
+            load.scaled(_on_last_axis(factor, mask)),
+            source_voltage[mask],
+            resistance,
+            frequency,
+            lamp_bypassed=lamp_out,
+            voltmeter_response=responses[0],
+            ammeter_response=responses[1],
+        )
     return load_voltage, current
+
+
+def _band_corners(lamp, load, sources, flags, tolerances, circuit):
+    """The healthy band's corners and a doubled unit's, before the unit meter's uncertainty.
+
+    ``sources`` are the source readings' low and high limits [V], ``flags`` the readings'
+    lamp-bypassed and read-at-the-rig-output masks, ``tolerances`` the lamp's and the load's,
+    ``circuit`` the source resistance [ohm], frequency [Hz] and the meters' responses.
+
+    The lowest unit volts (and highest current) of a healthy unit come from the smallest
+    lamp of the spread, the heaviest load within the tolerance and the source reading's low
+    (high) limit; the opposite corner gives the other end. A unit drawing twice the declared
+    load looks most like a healthy one with the large lamp and the high source reading for
+    its volts, and the small lamp and the low source reading for its current.
+    """
+    source_low, source_high = sources
+    lamp_tolerance, load_tolerance = tolerances
+    n = source_low.size
+    corners_source = np.concatenate([source_low, source_high])
+    corners_bypassed = np.concatenate([flags[0], flags[0]])
+    corners_at_output = np.concatenate([flags[1], flags[1]])
+    heavy_light = np.array([[1.0 + load_tolerance], [1.0 - load_tolerance], [2.0]])
+    corners = {}
+    for name, factor in (("small", 1.0 - lamp_tolerance), ("large", 1.0 + lamp_tolerance)):
+        corners[name] = _predict(
+            _SpreadLamp(lamp, factor),
+            load,
+            heavy_light,
+            corners_source,
+            corners_bypassed,
+            corners_at_output,
+            *circuit,
+        )
+    low, high = slice(0, n), slice(n, 2 * n)
+    return {
+        "volts_low": corners["small"][0][0, low],
+        "volts_high": corners["large"][0][1, high],
+        "current_low": corners["small"][1][1, low],
+        "current_high": corners["large"][1][0, high],
+        "doubled_volts_high": corners["large"][0][2, high],
+        "doubled_current_low": corners["small"][1][2, low],
+        "glow_brightest": corners["small"][2][0, high],
+        "glow_dimmest": corners["large"][2][1, low],
+    }
+
+
+def _widened(edges, meter, ammeter):
+    """The corners widened by the unit meters' uncertainty, each away from the prediction.
+
+    ``edges`` holds the band's volts low and high, current low and high, and the doubled
+    unit's volts high and current low, in that order.
+    """
+    volts_low, volts_high, current_low, current_high, doubled_volts_high, doubled_current_low = (
+        edges
+    )
+    volts_low = np.maximum(volts_low - _uncertainty(volts_low, *meter), 0.0)
+    volts_high = volts_high + _uncertainty(volts_high, *meter)
+    current_low = np.maximum(current_low - _uncertainty(current_low, *ammeter), 0.0)
+    current_high = current_high + _uncertainty(current_high, *ammeter)
+    # A doubling that stops the unit (no operating point) collapses its volts to nothing.
+    doubled_volts_high = np.nan_to_num(doubled_volts_high, nan=0.0)
+    doubled_volts_high = doubled_volts_high + _uncertainty(doubled_volts_high, *meter)
+    doubled_current_low = np.nan_to_num(doubled_current_low, nan=np.inf)
+    with np.errstate(invalid="ignore"):
+        doubled_current_low = np.maximum(
+            doubled_current_low - _uncertainty(doubled_current_low, *ammeter), 0.0
+        )
+    return (
+        volts_low,
+        volts_high,
+        current_low,
+        current_high,
+        doubled_volts_high,
+        doubled_current_low,
+    )
+
+
+def _needed(
+    volts, amps, volts_low, current_high, doubled_volts_high, doubled_current_low, doubled_stops
+):
+    """How far a doubling must move the unit volts and the current to leave the healthy band.
+
+    The band's room on that side of the healthy prediction (``volts[0]``, ``amps[0]``), plus
+    the doubled unit's room on the other side of its own (``volts[1]``, ``amps[1]``). Both
+    include the lamp's spread and both meters (the source reading moves the corners); the
+    band's also the declared load's tolerance.
+    """
+    with np.errstate(invalid="ignore"):
+        volts_needed = (volts[0] - volts_low) + np.where(
+            doubled_stops, doubled_volts_high, doubled_volts_high - volts[1]
+        )
+        current_needed = (current_high - amps[0]) + np.where(
+            doubled_stops, 0.0, amps[1] - doubled_current_low
+        )
+    return volts_needed, current_needed
+
+
+def doubling_margin(
+    lamp,
+    load,
+    source_voltage,
+    *,
+    source_resistance=0.0,
+    frequency=DEFAULT_FREQUENCY,
+    source_point=BEFORE_RIG,
+    lamp_power_tolerance=LAMP_POWER_TOLERANCE,
+    load_tolerance=LOAD_TOLERANCE,
+    meter_relative_accuracy=METER_RELATIVE_ACCURACY,
+    meter_absolute_accuracy=METER_ABSOLUTE_ACCURACY,
+    source_meter_relative_accuracy=None,
+    source_meter_absolute_accuracy=None,
+):
+    """How far a doubling of draw moves a healthy unit's volts, and how far it must move.
+
+    The judgement's own rule for unit volts read with the lamp in circuit, at one source
+    voltage: a doubling tells a fault when ``shift >= needed``, so that a unit drawing twice
+    its load cannot read inside a healthy unit's band.
+
+    Parameters
+    ----------
+    lamp : Lamp or LampBank
+        The series lamp.
+    load : Load
+        The declared load.
+    source_voltage : float
+        The source at ``source_point`` [V].
+    source_resistance, frequency, source_point
+        As for :func:`judge` and :class:`Reading`.
+    lamp_power_tolerance, load_tolerance, meter_relative_accuracy, meter_absolute_accuracy,
+    source_meter_relative_accuracy, source_meter_absolute_accuracy
+        As for :func:`judge`.
+
+    Returns
+    -------
+    shift, needed : float
+        The fall of the unit's volts from the declared draw to twice it, and the band's room
+        below the healthy prediction plus the doubled unit's room above its own [V]; ``shift``
+        is the healthy volts where the doubled unit has no operating point. NaN where a
+        healthy unit has none.
+    band_may_cycle : bool
+        Whether a healthy unit within the band (the heavy load, the small lamp, the low
+        source reading) has no operating point: it may cycle through this lamp.
+    """
+    source_resistance = check_source_resistance(source_resistance)
+    frequency = check_frequency(frequency)
+    if source_point not in SOURCE_POINTS:
+        raise ValueError(f"source_point must be one of {', '.join(SOURCE_POINTS)}")
+    meter = (float(meter_relative_accuracy), float(meter_absolute_accuracy))
+    source_meter = (
+        meter[0] if source_meter_relative_accuracy is None else source_meter_relative_accuracy,
+        meter[1] if source_meter_absolute_accuracy is None else source_meter_absolute_accuracy,
+    )
+    source = np.array([float(source_voltage)])
+    flags = np.array([False]), np.array([source_point == RIG_OUTPUT])
+    responses = (TRUE_RMS, TRUE_RMS)
+    volts, amps, _, state = _predict(
+        lamp,
+        load,
+        np.array([[1.0], [2.0]]),
+        source,
+        *flags,
+        source_resistance,
+        frequency,
+        responses,
+    )
+    if state[0, 0] == NO_OPERATING_POINT:
+        return np.nan, np.nan, True
+    span = _uncertainty(source, *source_meter)
+    band = _band_corners(
+        lamp,
+        load,
+        (np.maximum(source - span, 0.0), source + span),
+        flags,
+        (float(lamp_power_tolerance), float(load_tolerance)),
+        (source_resistance, frequency, responses),
+    )
+    band_may_cycle = bool(np.isnan(band["volts_low"][0]))
+    names = ("volts_low", "volts_high", "current_low", "current_high")
+    edges = tuple(band[name] for name in names + ("doubled_volts_high", "doubled_current_low"))
+    ammeter = (CURRENT_RELATIVE_ACCURACY, CURRENT_ABSOLUTE_ACCURACY)
+    volts_low, _, _, current_high, doubled_volts_high, doubled_current_low = _widened(
+        (np.nan_to_num(edges[0], nan=0.0),) + edges[1:], meter, ammeter
+    )
+    doubled_stops = np.isnan(volts[1])
+    needed, _ = _needed(
+        volts,
+        amps,
+        volts_low,
+        current_high,
+        doubled_volts_high,
+        doubled_current_low,
+        doubled_stops,
+    )
+    shift = np.where(doubled_stops, volts[0], volts[0] - volts[1])
+    return float(shift[0]), float(needed[0]), band_may_cycle
 
 
 def _uncertainty(value, relative, absolute):
@@ -510,6 +763,7 @@ def _infer_draw(
     measured,
     by_current,
     bypassed,
+    at_output,
     grid_voltage,
     grid_current,
     source_resistance,
@@ -562,6 +816,7 @@ def _infer_draw(
             np.exp(log_draw),
             source_voltage,
             bypassed,
+            at_output,
             source_resistance,
             frequency,
             responses,
@@ -590,9 +845,10 @@ def _switch_on_overrides(lamp, load, readings, source_resistance, frequency, res
     """Predictions at each reading's seconds since switch-on, where a healthy unit is unsettled.
 
     Returns the readings' indices and their meter views at the declared draw, its double and
-    ``SWITCH_ON_DRAWS`` (rows) from one switch-on run of all of them (the heaters' slow
+    ``SWITCH_ON_DRAWS`` (rows) from one switch-on run per source point (the heaters' slow
     warm-up included), and the readings taken later than ``SWITCH_ON_SECONDS`` while a
-    healthy unit is still settling there.
+    healthy unit is still settling there. A source read at the rig's output is followed with
+    no source resistance, as its steady state is.
     """
     timed = [
         index
@@ -603,6 +859,31 @@ def _switch_on_overrides(lamp, load, readings, source_resistance, frequency, res
     ]
     if not timed or getattr(load, "constant_power", False):
         return {}, []
+    rows, volts, amps, late = [], [], [], []
+    for point in SOURCE_POINTS:
+        group = [index for index in timed if readings[index].source_point == point]
+        if not group:
+            continue
+        resistance = 0.0 if point == RIG_OUTPUT else source_resistance
+        found = _switch_on_group(lamp, load, readings, group, resistance, frequency, responses)
+        if found is None:
+            return {}, []
+        rows += found[0]
+        late += found[3]
+        if found[0]:
+            volts.append(found[1])
+            amps.append(found[2])
+    if not rows:
+        return {}, late
+    return {
+        "rows": rows,
+        "volts": np.concatenate(volts, axis=1),
+        "amps": np.concatenate(amps, axis=1),
+    }, late
+
+
+def _switch_on_group(lamp, load, readings, timed, source_resistance, frequency, responses):
+    """One switch-on run for the timed readings of one source point (None: no time model)."""
     seconds = np.array([readings[index].seconds_since_switch_on for index in timed])
     sources = np.array([readings[index].source_voltage for index in timed])
     duration = min(float(seconds.max()), SWITCH_ON_SECONDS) + 1.0 / frequency
@@ -619,7 +900,7 @@ def _switch_on_overrides(lamp, load, readings, source_resistance, frequency, res
         )
     except ValueError:
         # A load without a time-domain model is judged on its steady state alone.
-        return {}, []
+        return None
     settle = result.settle_time[:, 0]
     unsettled = ~(settle <= seconds)
     within = seconds <= SWITCH_ON_SECONDS
@@ -630,14 +911,14 @@ def _switch_on_overrides(lamp, load, readings, source_resistance, frequency, res
         if flag
     ]
     if not rows:
-        return {}, late
+        return [], None, None, late
     pick = np.flatnonzero(unsettled & within)
     half = result.at(seconds[pick])
     volts = meter_view(
         result.load_voltage[half, pick], result.average_load_voltage[half, pick], responses[0]
     )
     amps = meter_view(result.current[half, pick], result.average_current[half, pick], responses[1])
-    return {"rows": rows, "volts": volts.T, "amps": amps.T}, late
+    return rows, volts.T, amps.T, late
 
 
 def _draw_on_grid(grid_volts, grid_amps, reading, meter, ammeter):
@@ -719,6 +1000,11 @@ def _check_positive(value, name, unit):
     return number
 
 
+def _peaky_current(load):
+    """Whether the unit's current flows in peaks (a rectifier): meter responses differ on it."""
+    return bool(getattr(load, "waveform", False) or getattr(load, "input_stage", None))
+
+
 def judge(
     lamp,
     load,
@@ -739,6 +1025,9 @@ def judge(
     min_sensitivity_ratio=MIN_SENSITIVITY_RATIO,
     voltmeter_response=TRUE_RMS,
     ammeter_response=TRUE_RMS,
+    source_meter_relative_accuracy=None,
+    source_meter_absolute_accuracy=None,
+    source_meter_response=TRUE_RMS,
 ):
     """Judge a power-up test's readings against a healthy unit of the declared load.
 
@@ -749,11 +1038,13 @@ def judge(
     load : Load
         The declared load: what the unit should draw as configured on the bench.
     readings : sequence of Reading
-        The test's readings, in the order taken.
+        The test's readings, in the order taken; each says where its source volts were
+        read (``Reading.source_point``).
     nominal_source_voltage : float
         The rig's nominal mains [V] (e.g. 120 or 230).
     source_resistance : float, default 0.0
-        Resistance of the rig's windings [ohm].
+        Resistance of the rig's windings [ohm]; it lies between the source reading and
+        the lamp only for readings taken before the rig.
     frequency : float, default 60.0
         Source frequency [Hz].
     lamp_power_tolerance : float, default ``LAMP_POWER_TOLERANCE`` (0.10)
@@ -761,9 +1052,9 @@ def judge(
     load_tolerance : float, default ``LOAD_TOLERANCE`` (0.20)
         Uncertainty of the declared load [fraction].
     meter_relative_accuracy, meter_absolute_accuracy : float
-        Voltmeter uncertainty, ``relative * reading + absolute`` [fraction, V];
-        defaults ``METER_RELATIVE_ACCURACY`` (0.01) and ``METER_ABSOLUTE_ACCURACY``
-        (0.5 V).
+        Uncertainty of the meter on the unit's volts, ``relative * reading + absolute``
+        [fraction, V]; defaults ``METER_RELATIVE_ACCURACY`` (0.01) and
+        ``METER_ABSOLUTE_ACCURACY`` (0.5 V).
     current_relative_accuracy, current_absolute_accuracy : float
         Ammeter uncertainty [fraction, A]; defaults 0.02 and 0.005 A.
     fail_draw_multiple : float, default ``FAIL_DRAW_MULTIPLE`` (2.0)
@@ -773,11 +1064,20 @@ def judge(
     full_source_fraction : float, default ``FULL_SOURCE_FRACTION`` (0.9)
         Fraction of nominal mains a pass must reach (at least 0.9).
     min_sensitivity_ratio : float, default ``MIN_SENSITIVITY_RATIO`` (1.0)
-        A reading tells a fault when a doubling of draw moves it by at least
-        this multiple of the meter's uncertainty.
+        A reading tells a fault when a doubling of draw moves it by at least this
+        multiple of what the healthy band and the meters allow (``sensitivity_needed``).
     voltmeter_response, ammeter_response : str, default "true_rms"
-        ``"true_rms"`` or ``"average_responding"``: the meters' readings are predicted as
-        those meters would show them.
+        ``"true_rms"`` or ``"average_responding"``: the unit's volts and current are
+        predicted as those meters would show them. The ammeter's may be ``"unknown"``:
+        on a unit whose current flows in peaks (a rectifier) its current is then not
+        judged (reason ``current_not_judged``); on any other unit the current is a sine,
+        which both responses read alike.
+    source_meter_relative_accuracy, source_meter_absolute_accuracy : float, optional
+        Uncertainty of the meter on the source volts [fraction, V]; default the unit
+        voltmeter's (one meter read both).
+    source_meter_response : str, default "true_rms"
+        ``"true_rms"``, ``"average_responding"`` or ``"unknown"``; recorded only: the
+        source is modelled as a sine where it was read, which every response reads alike.
 
     Returns
     -------
@@ -787,15 +1087,22 @@ def judge(
     -----
     For every reading the band is the healthy prediction at its corners: the
     lowest unit volts come from the smallest lamp (power ``1 - t_lamp``), the
-    heaviest load (``1 + t_load``) and the source reading's low limit; the
-    highest from the opposite corner; each end is widened by the meter's
-    uncertainty. The model is monotone in each, so the corners bound the band.
-    The inferred draw is the factor ``k`` for which
+    heaviest load (``1 + t_load``) and the source reading's low limit (source
+    meter); the highest from the opposite corner; each end is widened by the unit
+    meter's uncertainty. The model is monotone in each, so the corners bound the band.
+    A source read at the rig's output is solved with no source resistance (the
+    windings' drop is already behind the reading); one read before the rig with
+    the windings in series. The inferred draw is the factor ``k`` for which
     ``solve_series(lamp, load.scaled(k), source_voltage)`` reproduces the
     measured current, or the unit volts where no current was measured
     (bypassed readings: the unit straight on the source through the rig). It
     is found through the load model, never by subtracting RMS volts.
-    Sensitivity is the change of unit volts from ``k = 1`` to ``k = 2``.
+    Sensitivity is the change of the measured quantity from ``k = 1`` to ``k = 2``;
+    it tells a fault when it at least equals the healthy band's room on that side
+    plus the doubled unit's own spread (the lamp and both meters at their other
+    corner), so that a doubled unit cannot read inside a healthy unit's band. A reading
+    with its current measured is judged on the current, unless the current cannot tell a
+    doubling (through a small lamp, which caps it) and the unit's volts can: then on the volts.
     """
     check_load(load)
     source_resistance = check_source_resistance(source_resistance)
@@ -806,6 +1113,18 @@ def judge(
     meter = (
         _check_fraction(meter_relative_accuracy, "meter_relative_accuracy", 0.0, 1.0),
         _check_fraction(meter_absolute_accuracy, "meter_absolute_accuracy", 0.0, np.inf),
+    )
+    source_meter = (
+        meter[0]
+        if source_meter_relative_accuracy is None
+        else _check_fraction(
+            source_meter_relative_accuracy, "source_meter_relative_accuracy", 0.0, 1.0
+        ),
+        meter[1]
+        if source_meter_absolute_accuracy is None
+        else _check_fraction(
+            source_meter_absolute_accuracy, "source_meter_absolute_accuracy", 0.0, np.inf
+        ),
     )
     ammeter = (
         _check_fraction(current_relative_accuracy, "current_relative_accuracy", 0.0, 1.0),
@@ -825,9 +1144,12 @@ def judge(
             f"{100 * FULL_SOURCE_FRACTION:.0f} % of nominal mains"
         )
     sensitivity_ratio = _check_positive(min_sensitivity_ratio, "min_sensitivity_ratio", "")
+    if source_meter_response != UNKNOWN_RESPONSE:
+        check_response(source_meter_response, "source_meter_response")
+    ammeter_unknown = ammeter_response == UNKNOWN_RESPONSE
     responses = (
         check_response(voltmeter_response, "voltmeter_response"),
-        check_response(ammeter_response, "ammeter_response"),
+        TRUE_RMS if ammeter_unknown else check_response(ammeter_response, "ammeter_response"),
     )
     readings = tuple(readings)
     if not readings:
@@ -840,14 +1162,20 @@ def judge(
 
     source = np.array([reading.source_voltage for reading in readings])
     unit_volts = np.array([reading.load_voltage for reading in readings])
-    by_current = np.array([reading.current is not None for reading in readings])
+    # Current read on a meter of unknown response, through a unit whose current flows in
+    # peaks: the two responses read it tens of per cent apart, so it cannot be judged.
+    current_unjudged = ammeter_unknown and _peaky_current(load)
+    by_current = np.array(
+        [reading.current is not None and not current_unjudged for reading in readings]
+    )
     amps = np.array(
         [np.nan if reading.current is None else reading.current for reading in readings]
     )
     bypassed = np.array([reading.lamp_bypassed for reading in readings])
+    at_output = np.array([reading.source_point == RIG_OUTPUT for reading in readings])
     n = len(readings)
     measured = np.where(by_current, amps, unit_volts)
-    source_span = _uncertainty(source, *meter)
+    source_span = _uncertainty(source, *source_meter)
     source_low = np.maximum(source - source_span, 0.0)
     source_high = source + source_span
     measured_span = np.where(
@@ -872,11 +1200,20 @@ def judge(
     )
     by_current_3 = np.tile(by_current, 3)
     bypassed_3 = np.tile(bypassed, 3)
+    at_output_3 = np.tile(at_output, 3)
 
     # Healthy unit, doubled draw and the search grid of draws, all in one solve.
     draws = np.concatenate([[1.0, 2.0], np.geomspace(*DRAW_SEARCH_RANGE, DRAW_SEARCH_POINTS)])
     volts_k, amps_k, glow_k, state_k = _predict(
-        lamp, load, draws[:, None], source_3, bypassed_3, source_resistance, frequency, responses
+        lamp,
+        load,
+        draws[:, None],
+        source_3,
+        bypassed_3,
+        at_output_3,
+        source_resistance,
+        frequency,
+        responses,
     )
     draw_3 = _infer_draw(
         lamp,
@@ -885,6 +1222,7 @@ def judge(
         measured_3,
         by_current_3,
         bypassed_3,
+        at_output_3,
         volts_k[2:],
         amps_k[2:],
         source_resistance,
@@ -899,33 +1237,23 @@ def judge(
         state_k[:, :n],
     )
 
-    # Band corners: source reading low then high, heavy then light load, for each lamp limit.
-    corners_source = np.concatenate([source_low, source_high])
-    corners_bypassed = np.concatenate([bypassed, bypassed])
-    heavy_light = np.array([[1.0 + load_tolerance], [1.0 - load_tolerance]])
-    corners = {}
-    for name, factor in (("small", 1.0 - lamp_tolerance), ("large", 1.0 + lamp_tolerance)):
-        corners[name] = _predict(
-            _SpreadLamp(lamp, factor),
-            load,
-            heavy_light,
-            corners_source,
-            corners_bypassed,
-            source_resistance,
-            frequency,
-            responses,
-        )
+    band = _band_corners(
+        lamp,
+        load,
+        (source_low, source_high),
+        (bypassed, at_output),
+        (lamp_tolerance, load_tolerance),
+        (source_resistance, frequency, responses),
+    )
+    volts_low, volts_high = band["volts_low"], band["volts_high"]
+    current_low, current_high = band["current_low"], band["current_high"]
+    doubled_volts_high = band["doubled_volts_high"]
+    doubled_current_low = band["doubled_current_low"]
+    glow_brightest, glow_dimmest = band["glow_brightest"], band["glow_dimmest"]
     # Readings taken while a healthy unit is still settling: the switch-on instead.
     switch_on_rows, not_settled = _switch_on_overrides(
         lamp, load, readings, source_resistance, frequency, responses
     )
-    low, high = slice(0, n), slice(n, 2 * n)
-    volts_low = corners["small"][0][0, low]
-    volts_high = corners["large"][0][1, high]
-    current_low = corners["small"][1][1, low]
-    current_high = corners["large"][1][0, high]
-    glow_brightest = corners["small"][2][0, high]
-    glow_dimmest = corners["large"][2][1, low]
     # Where the heaviest corner has no operating point its unit cycles: its volts may fall
     # to nothing, its current and glow flash up.
     cannot_run = state_k[0] == NO_OPERATING_POINT
@@ -936,15 +1264,17 @@ def judge(
     if switch_on_rows:
         rows = switch_on_rows["rows"]
         # The band moves with the healthy prediction: its corners scaled by the switch-on's
-        # ratio to the steady state at that instant.
-        for band, values, steady in (
-            (volts_low, switch_on_rows["volts"], volts_k[0, rows]),
-            (volts_high, switch_on_rows["volts"], volts_k[0, rows]),
-            (current_low, switch_on_rows["amps"], amps_k[0, rows]),
-            (current_high, switch_on_rows["amps"], amps_k[0, rows]),
+        # ratio to the steady state at that instant (the doubled unit's by its own).
+        for edge, values, steady, row in (
+            (volts_low, switch_on_rows["volts"], volts_k[0, rows], 0),
+            (volts_high, switch_on_rows["volts"], volts_k[0, rows], 0),
+            (current_low, switch_on_rows["amps"], amps_k[0, rows], 0),
+            (current_high, switch_on_rows["amps"], amps_k[0, rows], 0),
+            (doubled_volts_high, switch_on_rows["volts"], volts_k[1, rows], 1),
+            (doubled_current_low, switch_on_rows["amps"], amps_k[1, rows], 1),
         ):
             with np.errstate(divide="ignore", invalid="ignore"):
-                band[rows] = band[rows] * np.where(steady > 0, values[0] / steady, 1.0)
+                edge[rows] = edge[rows] * np.where(steady > 0, values[row] / steady, 1.0)
         volts_k[:2, rows] = switch_on_rows["volts"][:2]
         amps_k[:2, rows] = switch_on_rows["amps"][:2]
         for position, reading_index in enumerate(rows):
@@ -957,21 +1287,38 @@ def judge(
                     ammeter,
                 )
             )
-    volts_low = np.maximum(volts_low - _uncertainty(volts_low, *meter), 0.0)
-    volts_high = volts_high + _uncertainty(volts_high, *meter)
-    current_low = np.maximum(current_low - _uncertainty(current_low, *ammeter), 0.0)
-    current_high = current_high + _uncertainty(current_high, *ammeter)
+    edges = (volts_low, volts_high, current_low, current_high)
+    edges = _widened(edges + (doubled_volts_high, doubled_current_low), meter, ammeter)
+    volts_low, volts_high, current_low, current_high, doubled_volts_high, doubled_current_low = (
+        edges
+    )
 
     # A doubling that leaves no operating point stops the unit: its volts collapse.
     doubled_stops = np.isnan(volts_k[1]) & ~cannot_run
     sensitivity = np.where(doubled_stops, volts_k[0], volts_k[0] - volts_k[1])
     current_sensitivity = np.where(doubled_stops, np.inf, amps_k[1] - amps_k[0])
+    volts_needed, current_needed = _needed(
+        volts_k[:2],
+        amps_k[:2],
+        volts_low,
+        current_high,
+        doubled_volts_high,
+        doubled_current_low,
+        doubled_stops,
+    )
+    with np.errstate(invalid="ignore"):
+        volts_tell = sensitivity >= sensitivity_ratio * volts_needed
+        current_tells = current_sensitivity >= sensitivity_ratio * current_needed
+    # Through a small lamp the current barely moves with the draw (the lamp caps it) while the
+    # unit's volts fall far: a reading whose current cannot tell a doubling and whose volts
+    # can is judged on its volts.
+    by_current = by_current & (current_tells | ~volts_tell)
+    measured = np.where(by_current, amps, unit_volts)
     uncertainty = np.where(
         by_current, _uncertainty(amps_k[0], *ammeter), _uncertainty(volts_k[0], *meter)
     )
-    sensitive = np.where(by_current, current_sensitivity, sensitivity) >= (
-        sensitivity_ratio * uncertainty
-    )
+    needed = np.where(by_current, current_needed, volts_needed)
+    sensitive = np.where(by_current, current_tells, volts_tell)
 
     band_low = np.where(by_current, current_low, volts_low)
     band_high = np.where(by_current, current_high, volts_high)
@@ -1016,6 +1363,8 @@ def judge(
             predicted_state=str(state_k[0, i]),
             may_cycle=bool(cannot_run[i] | heavy_cycles[i]),
             judged_against="switch_on" if i in switch_on_rows.get("rows", ()) else "steady_state",
+            sensitivity_needed=float(needed[i]),
+            source_point=readings[i].source_point,
         )
         for i in range(n)
     )
@@ -1028,6 +1377,8 @@ def judge(
     reasons += _not_settled_reasons(readings, not_settled)
     if not any(reason.outcome != "pass" for reason in reasons):
         reasons.append(_completion_reason(readings, judged, nominal, full_fraction))
+    if current_unjudged and any(reading.current is not None for reading in readings):
+        reasons.append(_current_not_judged_reason(readings))
     reasons.sort(key=lambda reason: -OUTCOME_SEVERITY.index(reason.outcome))
     settings = {
         "nominal_source_voltage": nominal,
@@ -1037,6 +1388,8 @@ def judge(
         "load_tolerance": load_tolerance,
         "meter_relative_accuracy": meter[0],
         "meter_absolute_accuracy": meter[1],
+        "source_meter_relative_accuracy": source_meter[0],
+        "source_meter_absolute_accuracy": source_meter[1],
         "current_relative_accuracy": ammeter[0],
         "current_absolute_accuracy": ammeter[1],
         "fail_draw_multiple": fail_multiple,
@@ -1044,10 +1397,24 @@ def judge(
         "full_source_fraction": full_fraction,
         "min_sensitivity_ratio": sensitivity_ratio,
         "voltmeter_response": responses[0],
-        "ammeter_response": responses[1],
+        "ammeter_response": UNKNOWN_RESPONSE if ammeter_unknown else responses[1],
+        "source_meter_response": source_meter_response,
+        "current_judged": not current_unjudged,
     }
     return Verdict(
         outcome=reasons[0].outcome, reasons=tuple(reasons), readings=judged, settings=settings
+    )
+
+
+def _current_not_judged_reason(readings):
+    index = next(i for i, reading in enumerate(readings) if reading.current is not None)
+    return Reason(
+        CURRENT_NOT_JUDGED,
+        "the current was read on a meter whose response (true RMS or average responding) "
+        "was not recorded, and this unit draws its current in peaks, which the two read tens "
+        "of per cent apart: the current is not judged, only the unit's volts; record the "
+        "current meter to have it judged",
+        index,
     )
 
 
@@ -1185,6 +1552,8 @@ def _cannot_run_reasons(readings, judged, declared, lamp, load, source_resistanc
     top = max(hits, key=lambda item: readings[item.index].source_voltage)
     more = f" ({len(hits) - 1} more readings alike)" if len(hits) > 1 else ""
     source = readings[top.index].source_voltage
+    if readings[top.index].source_point == RIG_OUTPUT:
+        source_resistance = 0.0
     return [
         Reason(
             LOAD_CANNOT_RUN,
@@ -1246,35 +1615,61 @@ def _completion_reason(readings, judged, nominal, full_fraction):
                 BYPASS_WITHOUT_CURRENT,
                 f"at {_volts(readings[item.index].source_voltage)} source the lamp was "
                 f"bypassed and no current was measured; the unit's volts would move by only "
-                f"{_volts(item.sensitivity)} for a doubling of draw, within the meter's "
-                f"{_volts(item.meter_uncertainty)}: measure the current",
+                f"{_volts(item.sensitivity)} for a doubling of draw, within the "
+                f"{_volts(item.sensitivity_needed)} a healthy unit's band and the meters "
+                "allow: measure the current",
                 item.index,
             )
-        item = max(through_lamp, key=lambda item: item.sensitivity / item.meter_uncertainty)
+        item = max(through_lamp, key=_sensitivity_share)
         if item.measured == "current":
             change = (
                 f"its current by only {_amps(item.current_sensitivity)}, within the "
-                f"meter's {_amps(item.meter_uncertainty)}"
+                f"{_amps(item.sensitivity_needed)} that a healthy unit's band (lamp spread, "
+                "load tolerance) and the meters allow"
             )
+            remedy = "use a smaller lamp"
         else:
             change = (
-                f"its volts by only {_volts(item.sensitivity)}, within the meter's "
-                f"{_volts(item.meter_uncertainty)}"
+                f"its volts by only {_volts(item.sensitivity)}, within the "
+                f"{_volts(item.sensitivity_needed)} that a healthy unit's band (lamp spread, "
+                "load tolerance) and both meters allow"
             )
+            remedy = "use a smaller lamp, or measure the current"
         return Reason(
             LAMP_TOO_LARGE,
             f"at {_volts(readings[item.index].source_voltage)} source a doubling of the "
-            f"unit's draw would move {change}: the lamp is too large to tell a fault; use a "
-            "smaller lamp",
+            f"unit's draw would move {change}: a unit drawing twice its load could read in "
+            f"band, so the lamp is too large to tell a fault; {remedy}",
             item.index,
         )
-    item = max(at_full, key=lambda item: readings[item.index].source_voltage)
+    item = max(
+        (item for item in at_full if item.sensitive),
+        key=lambda item: readings[item.index].source_voltage,
+    )
     reading = readings[item.index]
+    if item.measured == "current":
+        shown = (
+            f"a doubling of draw would move its current by {_amps(item.current_sensitivity)}, "
+            f"beyond the {_amps(item.sensitivity_needed)} a healthy unit's band and the meters "
+            "allow"
+        )
+    else:
+        shown = (
+            f"a doubling of draw would move the unit by {_volts(item.sensitivity)}, beyond "
+            f"the {_volts(item.sensitivity_needed)} a healthy unit's band and both meters allow"
+        )
     return Reason(
         ALL_IN_BAND,
         f"all {len(readings)} readings were in band, up to {_volts(reading.source_voltage)} "
         f"source ({100 * reading.source_voltage / nominal:.0f} % of the {_volts(nominal)} "
-        f"nominal); there a doubling of draw would move the unit by "
-        f"{_volts(item.sensitivity)}",
+        f"nominal); at {_volts(reading.source_voltage)} {shown}",
         item.index,
     )
+
+
+def _sensitivity_share(item):
+    """How much of what a doubling must move a reading by it does move it (0 when it cannot)."""
+    moved = item.current_sensitivity if item.measured == "current" else item.sensitivity
+    if not np.isfinite(item.sensitivity_needed) or item.sensitivity_needed <= 0:
+        return 0.0
+    return float(np.nan_to_num(moved / item.sensitivity_needed))

@@ -37,9 +37,9 @@ CONDUCTION_FRACTION_RANGE = (0.0, 0.9)
 # Filament temperature at rated voltage by fill, as (rated power [W], temperature [K]) pairs,
 # interpolated in log power and held at the end values outside the pairs (no extrapolation).
 # Gas: midpoints of 2700-2750 K at 40 W, 2750-2800 K at 60 W, 2850-2870 K at 100 W
-# (DESIGN.md section 7, from memory): larger filaments run hotter for the same life.
+# (from memory): larger filaments run hotter for the same life.
 # Vacuum: general-service vacuum lamps (up to about 40 W) run near 2400-2600 K (from memory).
-# Halogen: mains halogen lamps run at about 2900-3100 K (DESIGN.md section 7, from memory).
+# Halogen: mains halogen lamps run at about 2900-3100 K (from memory).
 # 230 V lamps have thinner filaments and run somewhat cooler than 120 V lamps of the same power;
 # where that matters give rated_temperature, cold_resistance, or fit measured points.
 DEFAULT_RATED_TEMPERATURE = {

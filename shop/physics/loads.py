@@ -105,7 +105,7 @@ class ResistiveLoad:
 
     Typical use: a resistive dummy load, a heater, or a unit declared by its
     nameplate when nothing better is known (``ResistiveLoad.from_rating``).
-    A 500 ohm resistor on 120 V stands in for a unit of about 29 W.
+    A 620 ohm resistor on 120 V stands in for a unit of about 23 W.
     """
 
     may_cycle = False

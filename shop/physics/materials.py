@@ -22,7 +22,7 @@ MICROOHM_CM = 1e-8
 EMISSIVITY_REFERENCE_TEMPERATURE = 300.0
 
 # Density 19.25 g/cm^3 and molar mass 183.84 g/mol (CRC Handbook of Chemistry and Physics,
-# as quoted in DESIGN.md section 7).
+# as quoted in a secondary copy).
 TUNGSTEN_DENSITY = 19250.0  # [kg/m^3]
 TUNGSTEN_MOLAR_MASS = 0.18384  # [kg/mol]
 

@@ -19,14 +19,14 @@ from cold), where the judgement shoots for the periodic steady state.
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
-from shop.physics.judgement import Reading
+from shop.physics.judgement import BEFORE_RIG, Reading
 from shop.physics.lamp import Lamp
 from shop.physics.materials import TABLE_MAX_TEMPERATURE
 from shop.physics.switch_mode_start import CYCLING, DOES_NOT_START, switch_mode_switch_on
 from shop.physics.waveform import periodic_steady_state
 
 # Spread of the lamp that "really" sat in the rig, against the nominal lamp the judgement is
-# told about: +/-5 % rated power and +/-100 K rated filament temperature (issue 3).
+# told about: +/-5 % rated power and +/-100 K rated filament temperature (from memory).
 POWER_SPREAD = 0.05
 TEMPERATURE_SPREAD = 100.0  # [K]
 # The meter of the generated readings: within +/-(1 % + 0.5 V) and +/-(2 % + 5 mA), the
@@ -354,6 +354,8 @@ def readings(
                 lamp_bypassed=bypassed,
                 seconds_held=10.0,
                 seconds_since_switch_on=seconds_since_switch_on,
+                # The source here is the supply ahead of the rig's windings.
+                source_point=BEFORE_RIG,
             )
         )
     return taken

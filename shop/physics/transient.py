@@ -21,7 +21,7 @@ DEFAULT_DURATION = 1.0  # [s]
 # full crest voltage); a transformer's worst is at a zero crossing (phase 0).
 DEFAULT_PHASE = 90.0  # [degrees]
 # Settled once every later half cycle's RMS current is within this fraction of the periodic
-# steady state's (issue 6: "the time until the current is within 10 % of steady state").
+# steady state's (the time until the current is within 10 % of steady state).
 SETTLE_FRACTION = 0.10
 FLASH_THEN_DIMS = "flash_then_dims"
 STEADY = "steady"

@@ -280,7 +280,10 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
     "COMPONENT_SPLIT_REQUEST": True,
-    "ENUM_NAME_OVERRIDES": {"JobStateEnum": "shop.intake.models.JobState"},
+    "ENUM_NAME_OVERRIDES": {
+        "JobStateEnum": "shop.intake.models.JobState",
+        "SourcePointEnum": "shop.bench.models.SourcePoint",
+    },
 }
 
 # The shop's identity, printed on receipts and certificates.

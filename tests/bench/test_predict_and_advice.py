@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from decimal import Decimal
+
 import pytest
 
 from shop.core.safety import CAVEATS
@@ -81,6 +83,29 @@ def test_lamp_advice_ranks_every_lamp_and_bank_of_the_rig(client_for, unit, rig,
     assert sum(entry["bank_id"] is not None for entry in advice) == 1
     assert all(entry["reason"] for entry in advice)
     assert response.json()["caveats"]
+
+
+def test_lamp_advice_gives_null_for_figures_a_lamp_rated_below_the_mains_cannot_give(
+    client_for, unit, rig, staff
+):
+    from shop.bench import services
+
+    for volts in ("120", "100"):
+        services.lamp_create(
+            actor=staff["lead"],
+            rig=rig,
+            label=f"60 W {volts} V clear",
+            technology="tungsten",
+            rated_voltage=Decimal(volts),
+            rated_power=Decimal(60),
+        )
+    response = client_for("technician").get(f"/api/units/{unit.pk}/lamp-advice/?rig={rig.pk}")
+    assert response.status_code == 200, response.content
+    under = next(e for e in response.json()["advice"] if e["suitability"] == "under_rated")
+    # JSON has no NaN: the band rule is not worked out for a lamp that must not be used.
+    assert under["sensitivity_needed"] is None
+    usable = next(e for e in response.json()["advice"] if e["suitability"] != "under_rated")
+    assert usable["sensitivity_needed"] > 0
 
 
 def test_lamp_advice_needs_a_rig(client_for, unit):
@@ -170,7 +195,7 @@ def test_the_prediction_says_how_the_lamp_behaves_at_switch_on(client_for, db):
     }
     answer = client_for("technician").post("/api/predict/", body, format="json").json()
     switch_on = answer["switch_on"]
-    # A cold filament's inrush is many times its running current (DESIGN.md 3.2; the
+    # A cold filament's inrush is many times its running current (the
     # 10-15x of rated current for a lamp alone is checked in tests/physics).
     assert switch_on["inrush_peak_current"] > 3 * switch_on["steady_current"]
     # Into a fixed resistance the filament only warms towards its steady glow: no flash.

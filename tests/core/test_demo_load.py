@@ -63,7 +63,7 @@ def test_demo_amplifiers_are_judged_through_their_nameplate_models_with_output_l
     from shop.bench.declared_load import physics_load
 
     call_command("demo_load", stdout=StringIO())
-    valve = PowerUpTest.objects.get(job__unit__model_name="A-12 monoblock")
+    valve = PowerUpTest.objects.get(job__unit__model_name="Wren 18 monoblock")
     solid = PowerUpTest.objects.get(job__unit__model_name="MP-400 integrated amplifier")
     for test in (valve, solid):
         assert test.declared_load["kind"] == "nameplate"

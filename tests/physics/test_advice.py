@@ -18,6 +18,7 @@ from shop.physics.advice import (
 from shop.physics.circuit import solve_series
 from shop.physics.lamp import Lamp, LampBank
 from shop.physics.loads import ResistiveLoad
+from shop.physics.nameplate import unit_load_from_nameplate
 
 RIG_LAMPS = [Lamp(120.0, power) for power in (15.0, 25.0, 40.0, 60.0, 75.0, 100.0, 150.0)]
 BANK = LampBank([Lamp(120.0, 100.0), Lamp(120.0, 100.0)])
@@ -36,19 +37,77 @@ def test_every_candidate_is_ranked_once_from_one():
     assert sorted(entry.index for entry in advice) == list(range(len(CANDIDATES)))
 
 
-def test_suitable_lamps_come_first_by_rising_fault_current():
+def test_suitable_lamps_come_first_closest_to_the_units_draw():
     advice = _advice()
     order = [entry.suitability for entry in advice]
     assert order == sorted(order, key=[SUITABLE, TOO_SMALL, TOO_LARGE, UNDER_RATED].index)
-    suitable = [entry.fault_current for entry in advice if entry.suitability == SUITABLE]
+    suitable = [
+        abs(np.log(CANDIDATES[entry.index].rated_power / 30.0))
+        for entry in advice
+        if entry.suitability == SUITABLE and entry.index < len(RIG_LAMPS)
+    ]
     assert suitable == sorted(suitable)
     assert advice[0].suitability == SUITABLE
 
 
-def test_the_advice_for_a_30_w_unit_on_120_v_is_the_60_w_lamp():
-    # The smallest lamp that leaves a healthy 30 W unit above 75 % of the source: by the
-    # model 60 W gives it 99 V (83 %) and 40 W only 85 V (70 %).
-    assert _advice()[0].label == "60 W 120 V gas lamp"
+def test_the_advice_for_a_30_w_unit_on_120_v_is_the_lamp_nearest_its_draw():
+    # Common practice (no source): start with a lamp close to the unit's rated draw. 25 W
+    # is the nearest of the rig's sizes to 30 W and leaves a healthy unit 55 % of the source.
+    assert _advice()[0].label == "25 W 120 V gas lamp"
+
+
+# Lamp sizes a shop keeps (common practice, no source), in order.
+LAMP_SIZES = (25.0, 40.0, 60.0, 75.0, 100.0, 150.0, 200.0, 300.0)
+
+
+@pytest.mark.parametrize("mains, frequency", [(120.0, 60.0), (230.0, 50.0)])
+@pytest.mark.parametrize("category, draw", [("radio", 40.0), ("amplifier", 100.0)])
+def test_a_valve_radio_and_amplifier_are_advised_a_lamp_within_one_size_of_their_draw(
+    mains, frequency, category, draw
+):
+    # Common practice (no source): start with a lamp close to the unit's rated draw, go up
+    # one size if a healthy unit will not start or its lamp stays bright.
+    unit = unit_load_from_nameplate(
+        rated_voltage=mains,
+        rated_power=draw,
+        category=category,
+        valve=True,
+        dummy_load_on_output=category == "amplifier",
+    )
+    lamps = [Lamp(mains, size) for size in LAMP_SIZES]
+    best = advise_lamp(unit, lamps, mains, source_resistance=WINDINGS, frequency=frequency)[0]
+    chosen = LAMP_SIZES.index(lamps[best.index].rated_power)
+    nearest = int(np.argmin([abs(np.log(size / draw)) for size in LAMP_SIZES]))
+    assert abs(chosen - nearest) <= 1
+    assert best.suitability == SUITABLE
+
+
+def test_a_lamp_six_times_the_units_draw_is_too_large_and_says_why():
+    advice = _advice(load=ResistiveLoad.from_rating(120.0, 25.0))
+    six = next(entry for entry in advice if entry.label.startswith("150 W"))
+    assert six.suitability == TOO_LARGE
+    assert "too large" in six.reason
+    assert "choose a smaller lamp" in six.reason
+
+
+def test_a_lamp_too_large_for_the_band_says_a_doubled_unit_could_read_healthy():
+    ten_watts = ResistiveLoad.from_rating(120.0, 10.0)
+    advice = _advice(load=ten_watts, lamps=[Lamp(120.0, 300.0)])
+    assert advice[0].sensitivity < advice[0].sensitivity_needed
+    assert "could read as healthy" in advice[0].reason
+    assert "measure the current" in advice[0].reason
+
+
+def test_a_suitable_lamp_tells_a_doubling_by_the_judgements_own_band():
+    for entry in _advice():
+        if entry.suitability == SUITABLE:
+            assert entry.sensitivity >= ADVICE_MIN_SENSITIVITY_RATIO * entry.sensitivity_needed
+
+
+def test_a_too_small_lamp_says_the_unit_keeps_too_little_of_the_source():
+    entry = next(entry for entry in _advice() if entry.label.startswith("15 W"))
+    assert entry.suitability == TOO_SMALL
+    assert "choose a larger lamp" in entry.reason
 
 
 def test_a_lamp_that_starves_a_healthy_unit_is_too_small():
@@ -64,7 +123,7 @@ def test_a_lamp_that_cannot_tell_a_doubling_of_draw_is_too_large():
     advice = _advice(load=ten_watts, lamps=[Lamp(120.0, 300.0), Lamp(120.0, 25.0)])
     large = next(entry for entry in advice if entry.label.startswith("300 W"))
     assert large.suitability == TOO_LARGE
-    assert large.sensitivity < ADVICE_MIN_SENSITIVITY_RATIO * large.meter_uncertainty
+    assert large.sensitivity < ADVICE_MIN_SENSITIVITY_RATIO * large.sensitivity_needed
     assert "too large" in large.reason
     assert advice[0].label.startswith("25 W")
 
@@ -123,7 +182,8 @@ def test_the_reason_carries_the_numbers():
     entry = _advice()[0]
     assert f"draws at most {entry.fault_current:.2g} A" in entry.reason
     assert f"gets {entry.load_voltage:.3g} V" in entry.reason
-    assert "the lowest fault current" in entry.reason
+    assert "the closest to the unit's 30 W draw" in entry.reason
+    assert "go up one size" in entry.reason
 
 
 def test_labels_can_be_given():

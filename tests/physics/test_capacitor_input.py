@@ -21,7 +21,7 @@ LAMP_100 = Lamp(120.0, 100.0)
 RIG = 2.0  # [ohm]
 FACTORS = np.array([0.5, 1.0, 1.5, 2.0, 3.0])
 SOURCES = np.array([[90.0], [105.0], [120.0]])
-# Issue 6's bar for the checks against ngspice: within 2 %.
+# The bar for the checks against ngspice: within 2 %.
 AGREEMENT = 0.02
 
 

@@ -107,7 +107,7 @@ def test_power_balances_for_a_resistive_unit():
     result = solve_series(LAMP_60, UNIT_30, source, source_resistance=2.0)
     supplied = source * result.current
     spent = result.lamp_power + result.load_power + result.current**2 * 2.0
-    # Issue 3: source power = lamp + unit + windings to 1e-9 relative.
+    # Energy balance: source power = lamp + unit + windings to 1e-9 relative.
     assert_allclose(spent, supplied, rtol=1e-9)
 
 

@@ -87,7 +87,7 @@ def test_power_balances_to_a_part_in_a_billion(lamp, resistance, winding, source
     result = solve_series(LAMPS[lamp], ResistiveLoad(resistance), source, winding)
     supplied = source * result.current
     spent = result.lamp_power + result.load_power + result.current**2 * winding
-    # Issue 3: source volts x current = lamp + unit + windings watts, to 1e-9 relative.
+    # Energy balance: source volts x current = lamp + unit + windings watts, to 1e-9 relative.
     assert_allclose(spent, supplied, rtol=1e-9)
 
 

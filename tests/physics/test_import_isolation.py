@@ -85,7 +85,10 @@ def test_shop_physics_answers_every_public_name_of_issue_6():
 
 
 def test_the_physics_version_says_predictions_changed_with_the_unit_models():
-    # Issue 6 added models and figures; resistive predictions are unchanged, so minor. 1.2:
+    # 1.1 added unit models and figures; resistive predictions were unchanged, so minor. 1.2:
     # readings timed during a warm-up are judged against it, and a switch-mode unit of 75 W
-    # or less built from its nameplate is a capacitor input.
-    assert shop.physics.PHYSICS_VERSION == "1.2.0"
+    # or less built from its nameplate is a capacitor input. 1.3: the source is read where
+    # the reading says (before the rig or at its output), each reading is judged with its own
+    # meter, a doubling must leave the healthy band to count, and lamp advice starts near the
+    # unit's draw.
+    assert shop.physics.PHYSICS_VERSION == "1.3.0"

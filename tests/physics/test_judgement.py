@@ -31,7 +31,7 @@ STEPS = (30.0, 60.0, 90.0, 110.0, 120.0)  # [V] source steps of a power-up
 LAMP = Lamp(120.0, 60.0)
 DECLARED = ResistiveLoad.from_rating(120.0, 30.0)  # 480 ohm
 CORNERS = [(1.05, 100.0), (1.05, -100.0), (0.95, 100.0), (0.95, -100.0)]
-# The lamp actually in the rig, drawn within the spread (seeded).
+# The lamp actually in the rig, drawn within a production spread (seeded).
 TRUE_LAMP = reference.random_perturbed_lamp(LAMP, np.random.default_rng(3))
 
 

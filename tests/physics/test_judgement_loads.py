@@ -153,12 +153,16 @@ def test_every_reading_judgement_is_plain_json_values():
 
 
 def test_lamp_advice_calls_a_lamp_too_small_when_the_unit_cannot_run_through_it():
-    lamps = [Lamp(230.0, watts) for watts in (25.0, 60.0, 150.0)]
+    lamps = [Lamp(230.0, watts) for watts in (25.0, 60.0, 75.0, 150.0)]
     advice = advise_lamp(ADAPTER, lamps, 230.0, source_resistance=WINDINGS_230, frequency=50.0)
     by_power = {lamps[item.index].rated_power: item for item in advice}
     assert by_power[25.0].suitability == TOO_SMALL
     assert "cycle or not start" in by_power[25.0].reason
+    # 60 W lets the declared unit run, but not one at the heavy end of its band.
+    assert by_power[60.0].suitability == TOO_SMALL
+    assert "would cycle through it" in by_power[60.0].reason
     assert advice[0].suitability == SUITABLE
+    assert lamps[advice[0].index].rated_power == 75.0
 
 
 SUPPLY = RectifierLoad(120.0, 470e-6, dc_resistance=300.0, turns_ratio=0.5)

@@ -49,7 +49,7 @@ def law_exponent(lamp, method, low, high):
 @pytest.mark.parametrize("spec", LAMPS, ids=str)
 def test_current_follows_the_lamp_law_exponent_from_half_to_1_1_times_rated_voltage(spec):
     # Lamp laws, IES Lighting Handbook; Van Horn, J. IES (1965): current about V^0.55, the
-    # range 0.5-0.6 as issue 3 states it.
+    # range 0.5-0.6 as commonly quoted (from memory).
     exponent = law_exponent(Lamp(*spec), "current", 0.5, 1.1)
     assert REFERENCE["current_exponent_low"] <= exponent <= REFERENCE["current_exponent_high"]
 
@@ -57,7 +57,7 @@ def test_current_follows_the_lamp_law_exponent_from_half_to_1_1_times_rated_volt
 @pytest.mark.parametrize("spec", LAMPS, ids=str)
 def test_power_follows_the_lamp_law_exponent_from_half_to_1_1_times_rated_voltage(spec):
     # Lamp laws, IES Lighting Handbook; Van Horn, J. IES (1965): power about V^1.54-1.6, the
-    # range 1.5-1.6 as issue 3 states it.
+    # range 1.5-1.6 as commonly quoted (from memory).
     exponent = law_exponent(Lamp(*spec), "power", 0.5, 1.1)
     assert REFERENCE["power_exponent_low"] <= exponent <= REFERENCE["power_exponent_high"]
 
@@ -73,21 +73,21 @@ def test_light_follows_the_lamp_law_exponent_near_rated_voltage(spec):
 
 @pytest.mark.parametrize("spec", LAMPS, ids=str)
 def test_cold_resistance_is_a_tenth_to_a_seventeenth_of_hot(spec):
-    # Issue 3 and DESIGN.md 7 (handbook-type figure): cold about 1/10 to 1/17 of hot.
+    # Handbook-type figure (from memory): cold about 1/10 to 1/17 of hot.
     lamp = Lamp(*spec)
     ratio = lamp.cold_resistance / lamp.hot_resistance
     assert REFERENCE["cold_to_hot_ratio_low"] <= ratio <= REFERENCE["cold_to_hot_ratio_high"]
 
 
 def test_a_100_watt_120_volt_lamp_is_144_ohm_hot():
-    # V^2 / P (DESIGN.md 7); exact arithmetic.
+    # V^2 / P (Ohm's law); exact arithmetic.
     assert_allclose(
         Lamp(120.0, 100.0).hot_resistance, REFERENCE["hot_resistance_120v_100w"], rtol=1e-12
     )
 
 
 def test_a_100_watt_120_volt_lamp_is_about_9_5_ohm_cold():
-    # DESIGN.md 7, a handbook-type figure recalled from memory ("about 9.5 ohm"). The model's
+    # A handbook-type figure recalled from memory ("about 9.5 ohm"). The model's
     # value rests on the rated temperature (recalled to +/-10 K, 0.5 % in resistivity) and the
     # resistivity table, which differs from White & Minges by up to 6 % in rho(T_r)/rho(300 K):
     # allow 10 %.
@@ -224,7 +224,9 @@ def test_conduction_carries_most_of_the_loss_of_a_gas_lamp_at_a_dull_glow():
 
 @pytest.mark.parametrize(("power", "name"), [(40.0, "40w"), (60.0, "60w"), (100.0, "100w")])
 def test_default_rated_temperature_of_gas_lamps_lies_in_the_quoted_range(power, name):
-    # DESIGN.md 7 (from memory): 2700-2750 K at 40 W, 2750-2800 K at 60 W, 2850-2870 K at 100 W.
+    # Self-consistency check only: the defaults were chosen inside these ranges, so this shows
+    # they stayed there. General-service lamps (from memory): 2700-2750 K at 40 W, 2750-2800 K
+    # at 60 W, 2850-2870 K at 100 W.
     temperature = Lamp(120.0, power).rated_temperature
     low = REFERENCE[f"rated_temperature_gas_{name}_low"]
     high = REFERENCE[f"rated_temperature_gas_{name}_high"]
@@ -238,7 +240,8 @@ def test_default_rated_temperature_rises_with_wattage_and_holds_beyond_the_table
 
 
 def test_default_rated_temperature_of_halogen_lies_in_the_quoted_range():
-    # Issue 3 and DESIGN.md 7: mains halogen lamps about 2900-3100 K.
+    # Self-consistency check only (the default was chosen inside the range): mains halogen
+    # lamps about 2900-3100 K (from memory).
     temperature = Lamp(230.0, 100.0, "halogen").rated_temperature
     assert (
         REFERENCE["rated_temperature_halogen_low"]

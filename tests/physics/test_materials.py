@@ -88,8 +88,11 @@ def test_resistivity_refuses_nan_temperature():
 
 @pytest.mark.parametrize("temperature", [1000.0, 2000.0, 3000.0])
 def test_emissivity_matches_the_values_quoted_for_the_tolias_fit(temperature):
-    # Tolias, Nucl. Mater. Energy 13, 42 (2017), as quoted (two digits) in DESIGN.md 7; half a
-    # unit in the second digit plus rounding of the quote.
+    # Self-consistency check only: these are the fit's own values (Tolias, Nucl. Mater.
+    # Energy 13, 42 (2017), as quoted to two digits in a secondary copy), so this shows the
+    # coefficients were typed right, not that the fit is right; the independent check is
+    # tests/physics/test_judgement_reference.py (Forsythe & Worthing emissivity). Half a unit
+    # in the second digit plus rounding of the quote.
     expected = REFERENCE[f"emissivity_{int(temperature)}k"]
     assert_allclose(tungsten_emissivity(temperature), expected, atol=0.0055)
 

@@ -15,7 +15,7 @@ from shop.physics.rectifier import RectifierLoad
 from shop.physics.transformer import TransformerLoad
 from tests.physics import spice
 
-# Issue 6: RMS and peak current and DC volts agree with ngspice within 2 %.
+# RMS and peak current and DC volts agree with ngspice within 2 % (the bar the models are held to).
 SPICE_AGREEMENT = 0.02
 LAMP = Lamp(120.0, 60.0)  # only for the protocol; the checks bypass it with a fixed resistor
 
@@ -36,7 +36,7 @@ def _spice_figures(body, output, frequency, settle, initial=""):
 
 
 def _assert_agrees(ours, theirs):
-    # Issue 6: within 2 %; the diodes differ (ours switch ideally, ngspice's by millivolts).
+    # Within 2 %; the diodes differ (ours switch ideally, ngspice's by millivolts).
     assert_allclose(float(ours.current), theirs["current"], rtol=SPICE_AGREEMENT)
     assert_allclose(float(ours.peak_current), theirs["peak_current"], rtol=SPICE_AGREEMENT)
     assert_allclose(float(ours.dc_voltage), theirs["dc_voltage"], rtol=SPICE_AGREEMENT)

@@ -17,7 +17,7 @@ from shop.physics.transient import switch_on
 from shop.physics.waveform import Network
 from tests.physics import spice
 
-# Issue 6's bar for the checks against ngspice: within 2 %.
+# The bar for the checks against ngspice: within 2 %.
 AGREEMENT = 0.02
 FREQUENCY = 60.0  # [Hz]
 RIG = 2.0  # [ohm]

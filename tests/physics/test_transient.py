@@ -35,7 +35,7 @@ def test_a_lamp_switched_at_the_crest_meets_it_with_its_cold_resistance():
 def test_the_inrush_is_about_root_2_times_the_resistance_ratio_times_rated_current():
     result = switch_on(LAMP_100, SHORT, 120.0, phase=90.0, duration=0.1)
     ratio = LAMP_100.hot_resistance / LAMP_100.cold_resistance
-    # Issue 6's rule for the lamp alone switched at the crest: exact with no rig resistance.
+    # The textbook rule for the lamp alone switched at the crest: exact with no rig resistance.
     assert_allclose(result.inrush_peak, np.sqrt(2) * ratio * 100.0 / 120.0, rtol=1e-12)
 
 

@@ -127,8 +127,14 @@ def test_the_title_says_it_is_a_functional_check_not_a_safety_approval(example_p
 
 def test_the_outcome_stands_beside_the_words_that_limit_it(example_pdf):
     first_page = pages_of(example_pdf)[0]
-    after_outcome = first_page[first_page.index("PASS") :][:120]
+    after_outcome = first_page[first_page.index("In band at full") :][:120]
     assert "not an electrical safety approval" in after_outcome
+
+
+def test_the_headline_states_what_was_found_not_a_bare_pass(example_pdf):
+    first_page = pages_of(example_pdf)[0]
+    assert "In band at full" in first_page
+    assert "PASS" not in first_page
 
 
 def test_certificate_text_holds_the_outcome_words_and_every_reason(example_text):
@@ -343,7 +349,7 @@ def test_every_test_of_a_certificate_has_its_outcome_printed():
     snapshot["tests"].append(second)
     first_page = pages_of(render_certificate(snapshot))[0]
     assert "Power-up test 1 of 2" in first_page
-    assert "FAIL" in first_page
+    assert "Far outside the band" in first_page
     assert "Fail: the unit drew what a healthy unit does not" in first_page
 
 
