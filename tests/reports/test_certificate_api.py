@@ -200,7 +200,7 @@ def test_tampering_is_caught_by_verification_and_the_command(certificate, client
 def test_the_command_passes_untouched_certificates(own_media, certificate):
     out = StringIO()
     call_command("certificates_verify", stdout=out)
-    assert "All 1 certificates match their hash; no orphan files" in out.getvalue()
+    assert "All 1 certificates match their hash and signature; no orphan files" in out.getvalue()
 
 
 def test_the_receipt_is_a_pdf_with_the_job_and_the_caution(job, client_for):
