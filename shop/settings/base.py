@@ -120,6 +120,9 @@ DATABASES = {
     )
 }
 if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
+    # SQLite opens its file but makes no folder: a fresh clone has no var/ (it is git-ignored).
+    if DATABASES["default"]["NAME"] not in {"", ":memory:"}:
+        Path(DATABASES["default"]["NAME"]).parent.mkdir(parents=True, exist_ok=True)
     # WAL and a busy timeout so that two benches writing at once wait instead of failing.
     DATABASES["default"].setdefault("OPTIONS", {}).update(
         {"timeout": 20, "transaction_mode": "IMMEDIATE", "init_command": "PRAGMA journal_mode=WAL;"}
