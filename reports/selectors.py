@@ -9,11 +9,11 @@ import json
 from django.conf import settings
 from django.db.models import QuerySet
 
-from shop.core.errors import Conflict
+from shop.core.errors import Conflict, Gone
 from shop.intake.models import Job
 
 from .canonical import sha256_hex
-from .models import Certificate, certificate_status
+from .models import Certificate, CertificateStatus, certificate_status
 
 NEXT_STEPS = (
     "A technician inspects the unit and tells you what is wrong and what the repair will cost.",
@@ -76,11 +76,37 @@ def stored_pdf(certificate: Certificate) -> bytes:
     return content
 
 
+NAMEPLATE_NOT_LEGIBLE = "unknown (nameplate not legible)"
+# Codes are base32 (A-Z, 2-7): a typed 0, 1 or 8 can only mean O, I or B.
+CODE_LOOKALIKES = str.maketrans({"0": "O", "1": "I", "8": "B"})
+
+
+def normalise_code(code: str) -> str:
+    """A verification code as typed -> its plain letters: no dashes or spaces, upper case."""
+    kept = "".join(ch for ch in (code or "") if ch not in "- \t")
+    return kept.upper().translate(CODE_LOOKALIKES)
+
+
+def certificate_pdf(certificate: Certificate) -> bytes:
+    """The PDF to hand out; a revoked certificate's is refused, so nobody passes it on."""
+    if certificate_status(certificate) == CertificateStatus.REVOKED:
+        raise Gone(
+            f"Certificate {certificate.number} was revoked; its PDF is no longer handed out. "
+            "Its record and reason stay readable at the certificate's address.",
+            field="certificate",
+            code="certificate_revoked",
+        )
+    return stored_pdf(certificate)
+
+
 def certificate_for_verification(number: str, code: str) -> Certificate | None:
-    """The certificate only when both number and code match; None for any mismatch alike."""
-    certificate = certificate_list().filter(number=number).first()
-    supplied = (code or "").strip().upper()
-    stored = certificate.verification_code if certificate else "X" * len(supplied)
+    """The certificate only when both number and code match; None for any mismatch alike.
+
+    The code may be typed without its dashes, with spaces or in lower case.
+    """
+    certificate = certificate_list().filter(number=number.strip().upper()).first()
+    supplied = normalise_code(code)
+    stored = normalise_code(certificate.verification_code) if certificate else "X" * len(supplied)
     matches = hmac.compare_digest(stored.encode(), supplied.encode())
     return certificate if certificate and matches else None
 
@@ -148,12 +174,20 @@ def receipt_data(job: Job) -> dict:
             "model_name": unit.model_name,
             "serial": unit.serial,
             "year": unit.year,
-            "rated_voltage": f"{unit.rated_voltage.normalize():f} V",
-            "rated_power": f"{unit.rated_power.normalize():f} {unit.rated_power_unit}",
+            "rated_voltage": (
+                f"{unit.rated_voltage.normalize():f} V"
+                if unit.rated_voltage is not None
+                else NAMEPLATE_NOT_LEGIBLE
+            ),
+            "rated_power": (
+                f"{unit.rated_power.normalize():f} {unit.rated_power_unit}"
+                if unit.rated_power is not None
+                else NAMEPLATE_NOT_LEGIBLE
+            ),
             "construction": unit.get_construction_display(),
             "chassis_may_be_live": unit.chassis_may_be_live,
         },
-        "condition": unit.condition_notes,
+        "condition": job.condition_at_intake,
         "next_steps": list(NEXT_STEPS),
         "caution": POWER_UP_CAUTION,
     }

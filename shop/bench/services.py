@@ -116,6 +116,25 @@ def instrument_update(
     )
 
 
+def calibration_check(*, calibrated_on: date, due_on: date, pairs: list[dict]) -> dict:
+    """Refuse impossible dates and unfittable pairs; return the fitted correction's fields."""
+    if due_on <= calibrated_on:
+        raise ApplicationError("The due date must be after the calibration date.", field="due_on")
+    if not pairs:
+        return {}
+    try:
+        correction = fit_meter_correction(
+            [p["reference"] for p in pairs], [p["indicated"] for p in pairs]
+        )
+    except (ValueError, KeyError, TypeError) as exc:
+        raise ApplicationError(f"Paired readings: {exc}.", field="paired_readings") from exc
+    return {
+        "correction_gain": correction.gain,
+        "correction_offset": correction.offset,
+        "largest_residual": correction.largest_residual,
+    }
+
+
 @transaction.atomic
 def calibration_record_add(
     *,
@@ -127,22 +146,8 @@ def calibration_record_add(
     paired_readings=(),
 ) -> CalibrationRecord:
     """Record a calibration or meter check; with paired readings, fit and keep a correction."""
-    if due_on <= calibrated_on:
-        raise ApplicationError("The due date must be after the calibration date.", field="due_on")
     pairs = [dict(pair) for pair in paired_readings]
-    fields = {}
-    if pairs:
-        try:
-            correction = fit_meter_correction(
-                [p["reference"] for p in pairs], [p["indicated"] for p in pairs]
-            )
-        except ValueError as exc:
-            raise ApplicationError(f"Paired readings: {exc}.", field="paired_readings") from exc
-        fields = {
-            "correction_gain": correction.gain,
-            "correction_offset": correction.offset,
-            "largest_residual": correction.largest_residual,
-        }
+    fields = calibration_check(calibrated_on=calibrated_on, due_on=due_on, pairs=pairs)
     return create_validated(
         CalibrationRecord,
         {
@@ -305,6 +310,17 @@ def _check_limiter(rig: Rig, lamp: Lamp | None, bank: LampBank | None) -> None:
         _check_technology(lamp.technology)
 
 
+def _check_who_declares(unit, actor) -> None:
+    """With no legible nameplate, only a lead declares the load a unit is judged against."""
+    if not unit.nameplate_known and not has_role(actor, LEAD):
+        raise Conflict(
+            f"Unit {unit} has no legible nameplate (rated voltage unknown); only a lead may "
+            "declare its load. Ask a lead to open the test or set its declared_load.",
+            field="declared_load",
+            code="nameplate_unknown",
+        )
+
+
 @transaction.atomic
 def powerup_open(
     *,
@@ -344,6 +360,8 @@ def powerup_open(
                 "Only a lead may override the isolation rule.", field="live_chassis_override"
             )
         override_by = technician
+    if declared_load is not None:
+        _check_who_declares(job.unit, technician)
     document = (
         validated_document(declared_load)
         if declared_load is not None
@@ -395,6 +413,7 @@ def powerup_update(
     locked = _lock_open(test, expected_version)
     only_fields(changes, TEST_FIELDS)
     if "declared_load" in changes:
+        _check_who_declares(locked.job.unit, actor)
         changes["declared_load"] = validated_document(changes["declared_load"])
         changes["warnings"] = _rating_warnings(locked.rig, changes["declared_load"])
     return update_versioned(

@@ -15,8 +15,35 @@ def unit_list() -> QuerySet[Unit]:
     return Unit.objects.select_related("owner")
 
 
+def _digits(phone: str) -> str:
+    return "".join(ch for ch in phone if ch.isdigit())
+
+
+def customer_duplicates(*, name: str, phone: str, exclude: int | None = None) -> list[Customer]:
+    """Customers of the same name (any case) and phone number (digits alone compared)."""
+    digits = _digits(phone or "")
+    if not digits or not name.strip():
+        return []
+    same_name = Customer.objects.filter(name__iexact=name.strip()).exclude(pk=exclude)
+    return [c for c in same_name.order_by("pk") if _digits(c.phone) == digits]
+
+
+def unit_duplicates(*, maker: str, serial: str, exclude: int | None = None) -> list[Unit]:
+    """Units of the same maker and serial number (any case)."""
+    if not serial.strip():
+        return []
+    return list(
+        unit_list()
+        .filter(maker__iexact=maker.strip(), serial__iexact=serial.strip())
+        .exclude(pk=exclude)
+        .order_by("pk")
+    )
+
+
 def job_list() -> QuerySet[Job]:
-    return Job.objects.select_related("unit", "unit__owner", "assigned_technician")
+    return Job.objects.select_related(
+        "unit", "unit__owner", "assigned_technician", "approval", "approval__recorded_by"
+    )
 
 
 def job_moves(*, job: Job) -> QuerySet[JobMove]:

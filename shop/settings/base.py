@@ -198,8 +198,17 @@ if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
         os.environ["AWS_STORAGE_BUCKET_NAME"], os.environ.get("AWS_S3_ENDPOINT_URL")
     )
 
-# Largest evidence upload accepted, in bytes.
+# Largest evidence upload accepted, in bytes; a kind of file named in
+# EVIDENCE_MAX_BYTES_BY_KIND (image, video, document, text) has its own limit instead.
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
+EVIDENCE_MAX_BYTES_BY_KIND = {
+    "video": int(os.environ.get("EVIDENCE_VIDEO_MAX_BYTES", str(100 * 1024 * 1024))),
+    **{
+        kind: int(os.environ[f"EVIDENCE_{kind.upper()}_MAX_BYTES"])
+        for kind in ("image", "document", "text")
+        if os.environ.get(f"EVIDENCE_{kind.upper()}_MAX_BYTES")
+    },
+}
 # Most readings one CSV import may carry (separate from the upload size limit).
 READINGS_CSV_MAX_ROWS = int(os.environ.get("READINGS_CSV_MAX_ROWS", "10000"))
 DATA_UPLOAD_MAX_MEMORY_SIZE = 2_621_440
@@ -215,6 +224,7 @@ REST_FRAMEWORK = {
     "DEFAULT_PAGINATION_CLASS": "shop.core.pagination.ShopPagination",
     "PAGE_SIZE": 50,
     "DEFAULT_FILTER_BACKENDS": [
+        "shop.core.query_parameters.KnownQueryParameters",
         "django_filters.rest_framework.DjangoFilterBackend",
         "rest_framework.filters.SearchFilter",
         "rest_framework.filters.OrderingFilter",
@@ -245,7 +255,11 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
     "COMPONENT_SPLIT_REQUEST": True,
-    "ENUM_NAME_OVERRIDES": {"JobStateEnum": "shop.intake.models.JobState"},
+    "ENUM_NAME_OVERRIDES": {
+        "JobStateEnum": "shop.intake.models.JobState",
+        "DecisionMethodEnum": "shop.intake.models.DecisionMethod",
+        "RecordableMethodEnum": "shop.intake.models.RECORDABLE_METHOD_CHOICES",
+    },
 }
 
 # The shop's identity, printed on receipts and certificates.

@@ -17,7 +17,7 @@ from reports.services import CERTIFIABLE_STATES, certificate_issue
 from reports.snapshot import verification_url
 from shop.bench.demo import load_demo_bench
 from shop.intake import services
-from shop.intake.models import Customer, Job
+from shop.intake.models import Customer, Job, JobState
 
 DEMO_DIR = Path(settings.BASE_DIR) / "fixtures" / "demo"
 # Local demo only: every demo account shares this password, printed at load time.
@@ -80,6 +80,20 @@ class Command(BaseCommand):
             staff[person["username"]] = user
         return staff
 
+    def move(self, job: Job, target: str, entry: dict, *, desk, lead) -> Job:
+        """One move of the demo route; the desk records the customer's answer to the estimate."""
+        answered = entry.get("answered", "phone")
+        if job.state == JobState.AWAITING_APPROVAL and target == JobState.REPAIRING:
+            return services.job_approve(job=job, actor=desk, method=answered)
+        if job.state == JobState.AWAITING_APPROVAL and target == JobState.DECLINED:
+            return services.job_decline(job=job, actor=desk, method=answered)
+        if target == JobState.ON_HOLD:
+            hold = entry["hold"]
+            return services.job_transition(
+                job=job, to_state=target, actor=desk, hold_reason=hold["reason"], note=hold["note"]
+            )
+        return services.job_transition(job=job, to_state=target, actor=lead)
+
     def load_records(self, data: dict, staff: dict[str, User]) -> dict:
         lead = next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
         desk = next(staff[p["username"]] for p in data["staff"] if p["role"] == "front_desk")
@@ -102,6 +116,7 @@ class Command(BaseCommand):
                 received_on=today - timedelta(days=entry["days_ago"]),
                 assigned_technician=staff.get(entry.get("technician")),
                 estimate=entry.get("estimate"),
+                condition_at_intake=entry.get("condition_at_intake", ""),
             )
             for step in entry["steps"]:
                 services.repair_step_add(
@@ -112,7 +127,5 @@ class Command(BaseCommand):
                     parts=step.get("parts", []),
                 )
             for target in entry["route"]:
-                job = services.job_transition(
-                    job=job, to_state=target, actor=lead, approved_by="Customer, by phone"
-                )
+                job = self.move(job, target, entry, desk=desk, lead=lead)
         return units
