@@ -33,17 +33,21 @@ class WarningSerializer(serializers.Serializer):
     existing = serializers.DictField(help_text="{type, id} of the record it refers to.")
 
 
-def warnings_field():
-    return serializers.SerializerMethodField(
+class WithWarnings(serializers.Serializer):
+    """Adds `warnings`: notices a service attached to the record it just wrote."""
+
+    warnings = serializers.SerializerMethodField(
         help_text="Notices about this write (a likely duplicate names the existing record); "
         "empty on reads."
     )
 
+    @extend_schema_field(WarningSerializer(many=True))
+    def get_warnings(self, record) -> list[dict]:
+        return getattr(record, "warnings", [])
 
-class CustomerSerializer(serializers.ModelSerializer):
+
+class CustomerSerializer(WithWarnings, serializers.ModelSerializer):
     """A customer; the contact details (phone, email, notes) go to the front desk and leads only."""
-
-    warnings = warnings_field()
 
     class Meta:
         model = Customer
@@ -60,21 +64,17 @@ class CustomerSerializer(serializers.ModelSerializer):
         ]
         read_only_fields = ["version", "created_at", "updated_at"]
 
-    @extend_schema_field(WarningSerializer(many=True))
-    def get_warnings(self, customer) -> list[dict]:
-        return getattr(customer, "warnings", [])
 
-
-class CustomerNameSerializer(serializers.ModelSerializer):
+class CustomerNameSerializer(WithWarnings, serializers.ModelSerializer):
     """A customer without contact details (what technicians see)."""
 
     class Meta:
         model = Customer
-        fields = ["id", "name", "version", "created_at", "updated_at"]
+        fields = ["id", "name", "version", "created_at", "updated_at", "warnings"]
         read_only_fields = fields
 
 
-class UnitSerializer(serializers.ModelSerializer):
+class UnitSerializer(WithWarnings, serializers.ModelSerializer):
     """A unit, its nameplate and construction; `chassis_may_be_live` flags isolation-only units."""
 
     owner_name = serializers.CharField(source="owner.name", read_only=True)
@@ -84,7 +84,6 @@ class UnitSerializer(serializers.ModelSerializer):
         help_text="False when rated_voltage or rated_power is null (no legible nameplate): "
         "power-up tests then need a load declared by a lead.",
     )
-    warnings = warnings_field()
 
     class Meta:
         model = Unit
@@ -115,10 +114,6 @@ class UnitSerializer(serializers.ModelSerializer):
             "warnings",
         ]
         read_only_fields = ["version", "created_at", "updated_at"]
-
-    @extend_schema_field(WarningSerializer(many=True))
-    def get_warnings(self, unit) -> list[dict]:
-        return getattr(unit, "warnings", [])
 
 
 class UnitBriefSerializer(serializers.ModelSerializer):
