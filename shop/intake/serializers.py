@@ -114,6 +114,11 @@ class UnitSerializer(WithWarnings, serializers.ModelSerializer):
             "warnings",
         ]
         read_only_fields = ["version", "created_at", "updated_at"]
+        # Sent always, null when the nameplate is not legible: a forgotten figure is refused.
+        extra_kwargs = {
+            "rated_voltage": {"required": True, "allow_null": True},
+            "rated_power": {"required": True, "allow_null": True},
+        }
 
 
 class UnitBriefSerializer(serializers.ModelSerializer):
