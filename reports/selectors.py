@@ -9,12 +9,12 @@ import json
 from django.conf import settings
 from django.db.models import QuerySet
 
-from shop.core.errors import Conflict
+from shop.core.errors import Conflict, Gone
 from shop.core.stored_files import orphan_files
 from shop.intake.models import Evidence, Job
 
 from .canonical import sha256_hex
-from .models import Certificate, certificate_status
+from .models import Certificate, CertificateStatus, certificate_status
 from .signing import certificate_signature_problem
 
 # Compared against when no certificate has the number: as long as a real code (24 letters in
@@ -107,14 +107,42 @@ def stored_pdf(certificate: Certificate) -> bytes:
     return content
 
 
+NAMEPLATE_NOT_LEGIBLE = "unknown (nameplate not legible)"
+# Codes are base32 (A-Z, 2-7): a typed 0, 1 or 8 can only mean O, I or B.
+CODE_LOOKALIKES = str.maketrans({"0": "O", "1": "I", "8": "B"})
+
+
+def normalise_code(code: str) -> str:
+    """A verification code as typed -> its plain letters: no dashes or spaces, upper case."""
+    kept = "".join(ch for ch in (code or "") if ch not in "- \t")
+    return kept.upper().translate(CODE_LOOKALIKES)
+
+
+def certificate_pdf(certificate: Certificate) -> bytes:
+    """The PDF to hand out; a revoked certificate's is refused, so nobody passes it on."""
+    if certificate_status(certificate) == CertificateStatus.REVOKED:
+        raise Gone(
+            f"Certificate {certificate.number} was revoked; its PDF is no longer handed out. "
+            "Its record and reason stay readable at the certificate's address.",
+            field="certificate",
+            code="certificate_revoked",
+        )
+    return stored_pdf(certificate)
+
+
 def certificate_for_verification(number: str, code: str) -> Certificate | None:
-    """The certificate only when both number and code match; None for any mismatch alike."""
+    """The certificate only when both number and code match; None for any mismatch alike.
+
+    The code may be typed without its dashes, with spaces or in lower case.
+    """
     # A wrong code costs what an unknown number costs: one query for the code alone and one
     # comparison; the certificate itself (three more queries) is read only after a match.
-    supplied = (code or "").strip().upper().encode()
-    found = Certificate.objects.filter(number=number).values_list("pk", "verification_code")
+    supplied = normalise_code(code).encode()
+    found = Certificate.objects.filter(number=number.strip().upper()).values_list(
+        "pk", "verification_code"
+    )
     pk, stored = found.first() or (None, UNKNOWN_NUMBER_CODE)
-    if not hmac.compare_digest(stored.encode(), supplied) or pk is None:
+    if not hmac.compare_digest(normalise_code(stored).encode(), supplied) or pk is None:
         return None
     return certificate_list().get(pk=pk)
 
@@ -189,12 +217,20 @@ def receipt_data(job: Job, *, with_contact: bool) -> dict:
             "model_name": unit.model_name,
             "serial": unit.serial,
             "year": unit.year,
-            "rated_voltage": f"{unit.rated_voltage.normalize():f} V",
-            "rated_power": f"{unit.rated_power.normalize():f} {unit.rated_power_unit}",
+            "rated_voltage": (
+                f"{unit.rated_voltage.normalize():f} V"
+                if unit.rated_voltage is not None
+                else NAMEPLATE_NOT_LEGIBLE
+            ),
+            "rated_power": (
+                f"{unit.rated_power.normalize():f} {unit.rated_power_unit}"
+                if unit.rated_power is not None
+                else NAMEPLATE_NOT_LEGIBLE
+            ),
             "construction": unit.get_construction_display(),
             "chassis_may_be_live": unit.chassis_may_be_live,
         },
-        "condition": unit.condition_notes,
+        "condition": job.condition_at_intake,
         "next_steps": list(NEXT_STEPS),
         "caution": POWER_UP_CAUTION,
     }

@@ -13,5 +13,6 @@ api_urlpatterns = [
     *router.urls,
 ]
 public_urlpatterns = [
+    path("verify/", views.VerifyFormView.as_view(), name="certificate-verify-form"),
     path("verify/<str:number>/", views.VerifyView.as_view(), name="certificate-verify"),
 ]

@@ -2,7 +2,12 @@
 
 from __future__ import annotations
 
-from django.http import HttpResponse
+from urllib.parse import urlencode
+
+from django.http import HttpResponse, HttpResponseRedirect
+from django.shortcuts import render
+from django.urls import reverse
+from django.views import View
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import (
     OpenApiParameter,
@@ -20,7 +25,12 @@ from rest_framework.throttling import AnonRateThrottle
 
 from shop.core.errors import error_body
 from shop.core.roles import ANY_ROLE, FRONT_DESK, LEAD, HasShopRole, has_role
-from shop.core.schema import ERROR_RESPONSES, THROTTLED_RESPONSE, WRITE_ERROR_RESPONSES
+from shop.core.schema import (
+    ERROR_RESPONSES,
+    THROTTLED_RESPONSE,
+    WRITE_ERROR_RESPONSES,
+    ErrorSerializer,
+)
 from shop.intake.models import Job
 
 from . import selectors, services
@@ -84,12 +94,19 @@ class CertificateViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, views
             self.get_serializer(self.get_queryset().get(pk=certificate.pk)).data, status=201
         )
 
-    @extend_schema(responses={**PDF_RESPONSE, **ERROR_RESPONSES})
+    @extend_schema(
+        responses={
+            **PDF_RESPONSE,
+            **ERROR_RESPONSES,
+            409: OpenApiResponse(ErrorSerializer, description="The stored PDF was altered."),
+            410: OpenApiResponse(ErrorSerializer, description="The certificate was revoked."),
+        }
+    )
     @action(detail=True, methods=["get"])
     def pdf(self, request, pk=None):
         certificate = self.get_object()
         return pdf_response(
-            selectors.stored_pdf(certificate), f"certificate-{certificate.number}.pdf"
+            selectors.certificate_pdf(certificate), f"certificate-{certificate.number}.pdf"
         )
 
     @extend_schema(
@@ -185,3 +202,23 @@ class VerifyView(GenericAPIView):
             )
             return Response({**body, "number": number}, status=404)
         return Response(selectors.verification_answer(certificate))
+
+
+class VerifyFormView(View):
+    """Public: `/verify/` without a number offers a plain form (no script) that asks for both."""
+
+    template_name = "reports/verify_form.html"
+
+    def get(self, request):
+        number = request.GET.get("number", "").strip()
+        code = request.GET.get("code", "").strip()
+        if number and code and "/" not in number and "\x00" not in number:
+            target = reverse("certificate-verify", kwargs={"number": number})
+            return HttpResponseRedirect(f"{target}?{urlencode({'code': code})}")
+        context = {
+            "action": reverse("certificate-verify-form"),
+            "number": number,
+            "code": code,
+            "missing": bool(number or code),
+        }
+        return render(request, self.template_name, context)

@@ -5,6 +5,7 @@ from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerSplitView
 
 from reports.urls import api_urlpatterns, public_urlpatterns
+from shop.api_root import api_root
 from shop.core.auth_views import (
     SessionLoginView,
     TokenObtainView,
@@ -34,6 +35,8 @@ urlpatterns = [
     path("api/schema/", SpectacularAPIView.as_view(), name="schema"),
     # The split view serves its start-up script as a file, so the CSP needs no inline script.
     path("api/docs/", SpectacularSwaggerSplitView.as_view(url_name="schema"), name="docs"),
+    # Before the apps' routers, whose own root pages each list only their app's part.
+    path("api/", api_root, name="api-root"),
     path("api/", include("shop.intake.urls")),
     path("api/", include("shop.core.urls")),
     path("api/", include("shop.bench.urls")),

@@ -10,8 +10,8 @@ from django.contrib.auth.models import User
 from django.utils import timezone
 
 from shop.bench import services
-from shop.intake import services as intake
 from shop.intake.models import JobState
+from tests.jobs import walk
 
 # A healthy 60 W, 120 V unit through the 60 W lamp on the 120 V rig: a pass when no meter is
 # named (with the `meter` fixture's spread, marginal).
@@ -121,15 +121,11 @@ def lamps(rig):
 
 @pytest.fixture
 def testing_job(job, staff):
-    for target in (
-        JobState.DIAGNOSING,
-        JobState.AWAITING_APPROVAL,
-        JobState.REPAIRING,
-        JobState.TESTING,
-    ):
-        job = intake.job_transition(
-            job=job, to_state=target, actor=staff["lead"], approved_by="Orla by phone"
-        )
+    job = walk(
+        job,
+        (JobState.DIAGNOSING, JobState.AWAITING_APPROVAL, JobState.REPAIRING, JobState.TESTING),
+        staff["lead"],
+    )
     return job
 
 

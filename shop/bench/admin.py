@@ -1,9 +1,13 @@
 """Admin pages for the bench, usable by a shop lead; closed tests and verdicts are read-only."""
 
+from django import forms
 from django.contrib import admin
 
+from shop.core.admin import AuditedAdmin
+from shop.core.errors import ApplicationError
 from shop.intake.admin import AppendOnlyAdmin
 
+from . import services
 from .models import (
     CalibrationRecord,
     Instrument,
@@ -14,10 +18,11 @@ from .models import (
     Rig,
     Verdict,
 )
+from .serializers import MAX_PAIRS, PairSerializer
 
 
 @admin.register(Rig)
-class RigAdmin(admin.ModelAdmin):
+class RigAdmin(AuditedAdmin):
     list_display = [
         "name",
         "mains_voltage",
@@ -30,12 +35,14 @@ class RigAdmin(admin.ModelAdmin):
 
 
 @admin.register(Lamp)
-class LampAdmin(admin.ModelAdmin):
+class LampAdmin(AuditedAdmin):
     list_display = ["label", "rig", "technology", "rated_voltage", "rated_power", "fill"]
     list_filter = ["rig", "technology"]
     list_select_related = ["rig"]
+    # The fit follows the calibration points only through the API, which refits them.
     readonly_fields = [
         "version",
+        "calibration_points",
         "fitted_rated_temperature",
         "fitted_conduction_fraction",
         "fit_rms_residual",
@@ -43,7 +50,7 @@ class LampAdmin(admin.ModelAdmin):
 
 
 @admin.register(LampBank)
-class LampBankAdmin(admin.ModelAdmin):
+class LampBankAdmin(AuditedAdmin):
     list_display = ["label", "rig"]
     readonly_fields = ["version"]
 
@@ -68,10 +75,57 @@ class CalibrationInline(admin.TabularInline):
 
 
 @admin.register(Instrument)
-class InstrumentAdmin(admin.ModelAdmin):
+class InstrumentAdmin(AuditedAdmin):
     list_display = ["maker", "model_name", "serial", "kind", "response"]
     readonly_fields = ["version"]
     inlines = [CalibrationInline]
+
+
+class CalibrationRecordForm(forms.ModelForm):
+    """A calibration typed in the admin, checked and fitted as the API does."""
+
+    class Meta:
+        model = CalibrationRecord
+        fields = ["instrument", "calibrated_on", "due_on", "reference", "paired_readings"]
+
+    def clean(self):
+        data = super().clean()
+        if self.errors:
+            return data
+        pairs = PairSerializer(
+            data=data.get("paired_readings") or [], many=True, max_length=MAX_PAIRS
+        )
+        if not pairs.is_valid():
+            raise forms.ValidationError({"paired_readings": str(pairs.errors)})
+        try:
+            services.calibration_check(
+                calibrated_on=data["calibrated_on"],
+                due_on=data["due_on"],
+                pairs=[dict(p) for p in pairs.validated_data],
+            )
+        except ApplicationError as exc:
+            raise forms.ValidationError({exc.field: exc.message}) from exc
+        data["paired_readings"] = [dict(p) for p in pairs.validated_data]
+        return data
+
+
+@admin.register(CalibrationRecord)
+class CalibrationRecordAdmin(AppendOnlyAdmin):
+    """Calibrations: a lead records one here as through the API; none is edited afterwards."""
+
+    form = CalibrationRecordForm
+    list_display = ["instrument", "calibrated_on", "due_on", "reference", "recorded_by"]
+    list_select_related = ["instrument", "recorded_by"]
+    readonly_fields = ["correction_gain", "correction_offset", "largest_residual", "recorded_by"]
+
+    def save_model(self, request, obj, form, change):
+        # Through the service: it fits the correction and writes the audit event.
+        record = services.calibration_record_add(
+            recorded_by=request.user,
+            **{name: form.cleaned_data[name] for name in CalibrationRecordForm.Meta.fields},
+        )
+        obj.pk = record.pk
+        obj._state.adding = False
 
 
 class ReadingInline(admin.TabularInline):

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 
 from rest_framework import serializers
 
+from shop.core.errors import Conflict
 from shop.intake.models import Category, Construction, FrequencyRating, PowerUnit, Unit
 from shop.physics.composite import CompositeLoad
 from shop.physics.heater import HeaterLoad
@@ -443,8 +444,21 @@ def _cautions(unit: Unit) -> list[str]:
     return cautions
 
 
+def require_nameplate(unit: Unit) -> None:
+    """Refuse (409) to model a unit whose nameplate was not legible."""
+    if not unit.nameplate_known:
+        raise Conflict(
+            f"Unit {unit} has no legible nameplate (rated voltage unknown or power unknown), so no "
+            "load can be taken from it. A lead must declare the load (declared_load) for a "
+            "power-up test.",
+            field="declared_load",
+            code="nameplate_unknown",
+        )
+
+
 def nameplate_document(unit: Unit) -> dict:
     """The default declared load, built from the unit's nameplate, with its cautions."""
+    require_nameplate(unit)
     cautions = _cautions(unit)
     if unit.rated_power_unit == PowerUnit.VOLT_AMPERE:
         cautions.append(
@@ -466,6 +480,7 @@ def unit_model_document(unit: Unit) -> dict:
     The model (transformer, heaters, switch-mode input...) and every assumption behind it
     come from ``shop.physics.nameplate.unit_load_from_nameplate``.
     """
+    require_nameplate(unit)
     parameters = {
         "voltage": float(unit.rated_voltage),
         "power": float(unit.rated_power),

@@ -123,6 +123,25 @@ def instrument_update(
     )
 
 
+def calibration_check(*, calibrated_on: date, due_on: date, pairs: list[dict]) -> dict:
+    """Refuse impossible dates and unfittable pairs; return the fitted correction's fields."""
+    if due_on <= calibrated_on:
+        raise ApplicationError("The due date must be after the calibration date.", field="due_on")
+    if not pairs:
+        return {}
+    try:
+        correction = fit_meter_correction(
+            [p["reference"] for p in pairs], [p["indicated"] for p in pairs]
+        )
+    except (ValueError, KeyError, TypeError) as exc:
+        raise ApplicationError(f"Paired readings: {exc}.", field="paired_readings") from exc
+    return {
+        "correction_gain": correction.gain,
+        "correction_offset": correction.offset,
+        "largest_residual": correction.largest_residual,
+    }
+
+
 @transaction.atomic
 def calibration_record_add(
     *,
@@ -134,22 +153,8 @@ def calibration_record_add(
     paired_readings=(),
 ) -> CalibrationRecord:
     """Record a calibration or meter check; with paired readings, fit and keep a correction."""
-    if due_on <= calibrated_on:
-        raise ApplicationError("The due date must be after the calibration date.", field="due_on")
     pairs = [dict(pair) for pair in paired_readings]
-    fields = {}
-    if pairs:
-        try:
-            correction = fit_meter_correction(
-                [p["reference"] for p in pairs], [p["indicated"] for p in pairs]
-            )
-        except ValueError as exc:
-            raise ApplicationError(f"Paired readings: {exc}.", field="paired_readings") from exc
-        fields = {
-            "correction_gain": correction.gain,
-            "correction_offset": correction.offset,
-            "largest_residual": correction.largest_residual,
-        }
+    fields = calibration_check(calibrated_on=calibrated_on, due_on=due_on, pairs=pairs)
     return create_validated(
         CalibrationRecord,
         {
@@ -397,7 +402,11 @@ def _isolation_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
 def _voltage_check(facts: dict, rig_facts: dict, reason: str, actor) -> bool:
     """Whether the rig's nominal mains is outside the unit's rated range and a lead overrode
     that with a reason; refuse without one."""
-    low, high, basis = rated_voltage_range(facts)
+    rated = rated_voltage_range(facts)
+    if rated is None:
+        # No legible nameplate: a lead declared the load, and the voltage has nothing to check.
+        return False
+    low, high, basis = rated
     mains = Decimal(str(rig_facts["mains_voltage"]))
     if low <= mains <= high:
         return False
@@ -420,6 +429,17 @@ def _check_reader(technician) -> None:
         raise ApplicationError(
             f"{technician.get_username()} is not a technician or lead and cannot take readings.",
             field="technician",
+        )
+
+
+def _check_who_declares(unit, actor) -> None:
+    """With no legible nameplate, only a lead declares the load a unit is judged against."""
+    if not unit.nameplate_known and not has_role(actor, LEAD):
+        raise Conflict(
+            f"Unit {unit} has no legible nameplate (rated voltage unknown); only a lead may "
+            "declare its load. Ask a lead to open the test or set its declared_load.",
+            field="declared_load",
+            code="nameplate_unknown",
         )
 
 
@@ -461,6 +481,8 @@ def powerup_open(
     # Lock the unit and the rig: a change to either waits until this test holds its facts.
     unit = Unit.objects.select_for_update().get(pk=job.unit_id)
     rig = Rig.objects.select_for_update().get(pk=rig.pk)
+    if declared_load is not None:
+        _check_who_declares(unit, actor)
     facts, at_rig = unit_facts(unit), rig_facts(rig)
     isolation_overridden = _isolation_check(facts, at_rig, live_chassis_override, actor)
     voltage_overridden = _voltage_check(facts, at_rig, voltage_override, actor)
@@ -524,6 +546,7 @@ def powerup_update(
     locked = _lock_open(test, expected_version)
     only_fields(changes, TEST_FIELDS)
     if "declared_load" in changes:
+        _check_who_declares(locked.job.unit, actor)
         changes["declared_load"] = validated_document(changes["declared_load"])
         changes["warnings"] = _test_warnings(
             locked.rig, locked.unit_facts, locked.rig_facts, changes["declared_load"]

@@ -330,7 +330,12 @@ class LampAdviceView(GenericAPIView):
 
     @extend_schema(
         parameters=[OpenApiParameter("rig", int, required=True, description="Rig id.")],
-        responses={200: AdviceSerializer, **ERROR_RESPONSES, 400: WRITE_ERROR_RESPONSES[400]},
+        responses={
+            200: AdviceSerializer,
+            **ERROR_RESPONSES,
+            400: WRITE_ERROR_RESPONSES[400],
+            409: WRITE_ERROR_RESPONSES[409],
+        },
     )
     def get(self, request, pk: int):
         unit = self.get_object()

@@ -17,7 +17,7 @@ from rest_framework.views import APIView
 
 from .authentication import token_expires_at, token_issue, token_revoke
 from .errors import error_body
-from .roles import LEAD, HasShopRole
+from .roles import LEAD, ROLES, HasShopRole, user_roles
 from .schema import ERROR_RESPONSES, ErrorSerializer
 from .signin import LoginThrottle, TokenThrottle, lockout_response
 
@@ -119,3 +119,36 @@ class UserTokenRevokeView(APIView):
     def post(self, request, pk: int, *args, **kwargs):
         user = get_object_or_404(get_user_model(), pk=pk)
         return Response({"revoked": token_revoke(user=user, actor=request.user)})
+
+
+MeSerializer = inline_serializer(
+    "Me",
+    {
+        "id": serializers.IntegerField(),
+        "username": serializers.CharField(),
+        "first_name": serializers.CharField(),
+        "last_name": serializers.CharField(),
+        "roles": serializers.ListField(child=serializers.ChoiceField(choices=ROLES)),
+        "admin_access": serializers.BooleanField(),
+    },
+)
+
+
+class MeView(APIView):
+    """The signed-in user and their shop roles (front_desk, technician, lead)."""
+
+    permission_classes = [IsAuthenticated]
+
+    @extend_schema(responses={200: MeSerializer, **ERROR_RESPONSES})
+    def get(self, request):
+        user = request.user
+        return Response(
+            {
+                "id": user.pk,
+                "username": user.get_username(),
+                "first_name": user.first_name,
+                "last_name": user.last_name,
+                "roles": sorted(user_roles(user)),
+                "admin_access": user.is_staff,
+            }
+        )

@@ -66,6 +66,13 @@ class Conflict(ApplicationError):
     code = "conflict"
 
 
+class Gone(ApplicationError):
+    """The record exists but is withdrawn and must no longer be handed out (HTTP 410)."""
+
+    status_code = status.HTTP_410_GONE
+    code = "gone"
+
+
 class PreconditionFailed(ApplicationError):
     """The client's If-Match version is stale: someone else changed the record (HTTP 412)."""
 

@@ -50,6 +50,10 @@ from shop.core.numbering import next_in_year
 from shop.core.roles import FRONT_DESK, LEAD, TECHNICIAN
 from shop.intake.models import (
     Customer,
+    CustomerDecision,
+    Decision,
+    DecisionMethod,
+    HoldReason,
     Job,
     JobMove,
     JobNumberCounter,
@@ -106,7 +110,7 @@ ROUTES = {
 # Jobs in these states have been on the bench, so they hold power-up tests.
 BENCH_STATES = frozenset({S.TESTING, S.READY, S.RETURNED})
 CERTIFIED_STATES = (S.READY, S.RETURNED)
-APPROVAL_WORDS = "Customer, by phone"
+APPROVAL_WORDS = "Customer"
 
 # The invented shop: staff, bench and the kinds of units that come in.
 STAFF = (
@@ -511,7 +515,6 @@ class _Seeder:
                     owner=customers[(number - 1) // UNITS_PER_CUSTOMER],
                     serial=f"SN-{number:06d}",
                     year=self.rng.randint(1950, 1995),
-                    condition_notes="Seeded record.",
                 )
             )
             by_kind[kind].append(units[-1])
@@ -542,7 +545,6 @@ class _Seeder:
         rows = []
         for plan, number in zip(plans, numbers):
             reached = {target for _, target, _ in plan.moves}
-            approved_at = next((at for _, t, at in plan.moves if t == S.REPAIRING), None)
             job = Job(
                 number=number,
                 unit=self.rng.choice(by_kind[plan.kind]),
@@ -555,15 +557,37 @@ class _Seeder:
                     if S.AWAITING_APPROVAL in reached
                     else None
                 ),
-                approved_by=APPROVAL_WORDS if approved_at else "",
-                approved_at=approved_at,
                 state=plan.state,
                 held_from=S.DIAGNOSING if plan.state == S.ON_HOLD else "",
+                hold_reason=HoldReason.WAITING_FOR_PARTS if plan.state == S.ON_HOLD else "",
                 version=1 + len(plan.moves),
             )
             rows.append(job)
         self._insert(Job, rows, exclude=("unit", "assigned_technician"))
+        self._approvals(plans, rows)
         return rows
+
+    def _approvals(self, plans: list[_JobPlan], jobs: list[Job]) -> None:
+        """The desk's recorded approval for every job that reached repairing."""
+        desk = self.staff[FRONT_DESK][0]
+        approved = []
+        for plan, job in zip(plans, jobs):
+            approved_at = next((at for _, t, at in plan.moves if t == S.REPAIRING), None)
+            if approved_at is not None:
+                job.approval = CustomerDecision(
+                    job=job,
+                    decision=Decision.APPROVED,
+                    method=DecisionMethod.PHONE,
+                    customer_name=APPROVAL_WORDS,
+                    estimate=job.estimate,
+                    recorded_by=desk,
+                    decided_at=approved_at - MOVE_GAP / 4,
+                )
+                approved.append(job)
+        self._insert(
+            CustomerDecision, [job.approval for job in approved], exclude=("job", "recorded_by")
+        )
+        Job.objects.bulk_update(approved, ["approval"], batch_size=BATCH_SIZE)
 
     def _moves_and_steps(self, plans: list[_JobPlan], jobs: list[Job]) -> None:
         lead, desk = self.lead, self.staff[FRONT_DESK][0]

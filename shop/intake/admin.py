@@ -2,18 +2,20 @@
 
 from django.contrib import admin
 
-from .models import Customer, Evidence, Job, JobMove, RepairStep, Unit
+from shop.core.admin import AuditedAdmin
+
+from .models import Customer, CustomerDecision, Evidence, Job, JobMove, RepairStep, Unit
 
 
 @admin.register(Customer)
-class CustomerAdmin(admin.ModelAdmin):
+class CustomerAdmin(AuditedAdmin):
     list_display = ["name", "phone", "email"]
     search_fields = ["name", "phone", "email"]
     readonly_fields = ["version"]
 
 
 @admin.register(Unit)
-class UnitAdmin(admin.ModelAdmin):
+class UnitAdmin(AuditedAdmin):
     list_display = ["maker", "model_name", "serial", "owner", "construction", "chassis_may_be_live"]
     list_filter = ["category", "construction", "protection_class"]
     search_fields = ["maker", "model_name", "serial", "owner__name"]
@@ -36,18 +38,26 @@ class JobMoveInline(admin.TabularInline):
 
 
 @admin.register(Job)
-class JobAdmin(admin.ModelAdmin):
+class JobAdmin(AuditedAdmin):
     """Jobs; the state is read-only here because moves go through the API's transition."""
 
     list_display = ["number", "unit", "state", "received_on", "assigned_technician"]
     list_filter = ["state", "assigned_technician"]
     search_fields = ["number", "unit__serial", "unit__owner__name"]
     list_select_related = ["unit", "assigned_technician"]
-    readonly_fields = ["number", "state", "held_from", "version"]
+    readonly_fields = [
+        "number",
+        "state",
+        "held_from",
+        "hold_reason",
+        "hold_note",
+        "approval",
+        "version",
+    ]
     inlines = [JobMoveInline]
 
 
-class AppendOnlyAdmin(admin.ModelAdmin):
+class AppendOnlyAdmin(AuditedAdmin):
     """Written once: the admin shows these records but never edits or deletes them."""
 
     def has_change_permission(self, request, obj=None) -> bool:
@@ -69,6 +79,16 @@ class EvidenceAdmin(AppendOnlyAdmin):
     list_display = ["job", "label", "content_type", "size", "uploaded_at"]
     list_select_related = ["job"]
     search_fields = ["job__number", "label", "sha256"]
+
+    def has_add_permission(self, request) -> bool:
+        return False
+
+
+@admin.register(CustomerDecision)
+class CustomerDecisionAdmin(AppendOnlyAdmin):
+    list_display = ["job", "decision", "method", "estimate", "recorded_by", "decided_at"]
+    list_select_related = ["job", "recorded_by"]
+    search_fields = ["job__number", "customer_name"]
 
     def has_add_permission(self, request) -> bool:
         return False

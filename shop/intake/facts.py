@@ -87,14 +87,17 @@ def rule_fields_changed(unit: Unit, changes: dict) -> list[str]:
     ]
 
 
-def rated_voltage_range(facts: dict) -> tuple[Decimal, Decimal, str]:
-    """The mains voltages the unit may be powered on: (low, high, what they rest on).
+def rated_voltage_range(facts: dict) -> tuple[Decimal, Decimal, str] | None:
+    """The mains voltages the unit may be powered on: (low, high, what they rest on), or None
+    when neither a selector setting nor a legible rated voltage is recorded.
 
     A voltage selector setting, where recorded, decides; else the nameplate rated voltage.
     """
     if facts.get("voltage_selector_setting") is not None:
         centre, basis = Decimal(str(facts["voltage_selector_setting"])), "voltage selector"
-    else:
+    elif facts.get("rated_voltage") is not None:
         centre, basis = Decimal(str(facts["rated_voltage"])), "nameplate"
+    else:
+        return None
     spread = centre * RATED_VOLTAGE_TOLERANCE
     return centre - spread, centre + spread, basis

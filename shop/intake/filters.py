@@ -44,8 +44,8 @@ class RepairStepFilter(django_filters.FilterSet):
 
 
 class EvidenceFilter(django_filters.FilterSet):
-    """Evidence by job and content type."""
+    """Evidence by job, repair step and content type."""
 
     class Meta:
         model = Evidence
-        fields = ["job", "content_type"]
+        fields = ["job", "step", "content_type"]

@@ -116,14 +116,19 @@ class Unit(Versioned):
     rated_voltage = models.DecimalField(
         max_digits=6,
         decimal_places=1,
+        null=True,
+        blank=True,
         validators=[MinValueValidator(MIN_RATED_VOLTAGE), MaxValueValidator(MAX_RATED_VOLTAGE)],
-        help_text="Nameplate mains voltage [V RMS].",
+        help_text="Nameplate mains voltage [V RMS]; null when the nameplate is not legible "
+        "(rated voltage unknown: only a lead may then declare a load to test it).",
     )
     rated_power = models.DecimalField(
         max_digits=7,
         decimal_places=1,
+        null=True,
+        blank=True,
         validators=[MinValueValidator(MIN_RATED_POWER), MaxValueValidator(MAX_RATED_POWER)],
-        help_text="Nameplate power, in the unit given by rated_power_unit.",
+        help_text="Nameplate power, in the unit given by rated_power_unit; null when not legible.",
     )
     rated_power_unit = models.CharField(
         max_length=2, choices=PowerUnit.choices, default=PowerUnit.WATT
@@ -157,7 +162,6 @@ class Unit(Versioned):
         max_length=10, choices=ProtectionClass.choices, default=ProtectionClass.UNKNOWN
     )
     cord = models.CharField(max_length=12, choices=Cord.choices, default=Cord.UNKNOWN)
-    condition_notes = models.TextField(blank=True, max_length=4000)
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
 
@@ -167,6 +171,11 @@ class Unit(Versioned):
 
     def __str__(self) -> str:
         return " ".join(part for part in (self.maker, self.model_name, self.serial) if part)
+
+    @property
+    def nameplate_known(self) -> bool:
+        """True when the nameplate's voltage and power were legible and recorded."""
+        return self.rated_voltage is not None and self.rated_power is not None
 
     @property
     def chassis_may_be_live(self) -> bool:
@@ -186,6 +195,32 @@ class JobState(models.TextChoices):
     DECLINED = "declined", "Declined by customer"
 
 
+class HoldReason(models.TextChoices):
+    WAITING_FOR_PARTS = "waiting_for_parts", "Waiting for parts"
+    WAITING_FOR_CUSTOMER = "waiting_for_customer", "Waiting for the customer"
+    OTHER = "other", "Other (see the note)"
+
+
+class Decision(models.TextChoices):
+    APPROVED = "approved", "Approved"
+    DECLINED = "declined", "Declined"
+
+
+class DecisionMethod(models.TextChoices):
+    IN_PERSON = "in_person", "In person at the desk"
+    PHONE = "phone", "By phone"
+    EMAIL = "email", "By email"
+    MESSAGE = "message", "By text message"
+    WRITTEN = "written", "In writing (letter or signed form)"
+    # Only for approvals kept from before the method was recorded; the API never offers it.
+    NOT_RECORDED = "not_recorded", "Not recorded"
+
+
+# The ways of answering the desk may record now.
+RECORDABLE_METHODS = tuple(m for m in DecisionMethod if m != DecisionMethod.NOT_RECORDED)
+RECORDABLE_METHOD_CHOICES = [(m.value, m.label) for m in RECORDABLE_METHODS]
+
+
 class JobNumberCounter(YearCounter):
     """The last job number handed out in a year."""
 
@@ -196,6 +231,9 @@ class Job(Versioned):
     number = models.CharField(max_length=20, unique=True, editable=False)
     unit = models.ForeignKey(Unit, on_delete=models.PROTECT, related_name="jobs")
     complaint = models.TextField(max_length=4000)
+    condition_at_intake = models.TextField(
+        blank=True, max_length=4000, help_text="The unit's condition as it came in for this job."
+    )
     received_on = models.DateField(default=timezone.localdate)
     promised_on = models.DateField(null=True, blank=True)
     assigned_technician = models.ForeignKey(
@@ -213,10 +251,16 @@ class Job(Versioned):
         validators=[MinValueValidator(Decimal("0"))],
         help_text="Estimated price in the shop's currency.",
     )
-    approved_by = models.CharField(
-        max_length=200, blank=True, help_text="Who gave the customer's approval."
+    approval = models.ForeignKey(
+        "CustomerDecision",
+        on_delete=models.PROTECT,
+        null=True,
+        blank=True,
+        editable=False,
+        related_name="+",
+        help_text="The customer's approval the current work rests on; cleared when the "
+        "estimate rises above the approved figure.",
     )
-    approved_at = models.DateTimeField(null=True, blank=True)
     state = models.CharField(
         max_length=20, choices=JobState.choices, default=JobState.RECEIVED, editable=False
     )
@@ -241,6 +285,10 @@ class Job(Versioned):
         editable=False,
         related_name="+",
     )
+    hold_reason = models.CharField(
+        max_length=30, choices=HoldReason.choices, blank=True, editable=False
+    )
+    hold_note = models.TextField(max_length=2000, blank=True, editable=False)
     created_at = models.DateTimeField(auto_now_add=True)
     updated_at = models.DateTimeField(auto_now=True)
 
@@ -280,6 +328,41 @@ class JobMove(AppendOnly):
         return f"{self.job_id}: {self.from_state} -> {self.to_state}"
 
 
+class CustomerDecision(AppendOnly):
+    """The customer's answer to an estimate, as the desk recorded it: approved or declined."""
+
+    job = models.ForeignKey(Job, on_delete=models.PROTECT, related_name="decisions")
+    decision = models.CharField(max_length=10, choices=Decision.choices)
+    method = models.CharField(max_length=20, choices=DecisionMethod.choices)
+    customer_name = models.CharField(
+        max_length=200, blank=True, help_text="Who answered for the customer, if not the owner."
+    )
+    estimate = models.DecimalField(
+        max_digits=9,
+        decimal_places=2,
+        null=True,
+        blank=True,
+        validators=[MinValueValidator(Decimal("0"))],
+        help_text="The estimate the customer answered [shop currency].",
+    )
+    recorded_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL,
+        on_delete=models.PROTECT,
+        null=True,
+        blank=True,
+        related_name="+",
+        help_text="The staff member who recorded the answer (blank only for older records).",
+    )
+    decided_at = models.DateTimeField(default=timezone.now)
+    note = models.TextField(blank=True, max_length=2000)
+
+    class Meta:
+        ordering = ["decided_at", "id"]
+
+    def __str__(self) -> str:
+        return f"{self.job_id}: {self.decision} ({self.method})"
+
+
 class RepairStep(AppendOnly):
     """One thing done to a job. A correction is a new step that names the step it corrects."""
 
@@ -311,9 +394,18 @@ def evidence_path(instance: Evidence, filename: str) -> str:
 
 
 class Evidence(AppendOnly):
-    """A file attached to a job: photo, scope capture, PDF, CSV log or plain text."""
+    """A file attached to a job: photo, short video, scope capture, PDF, CSV log or text."""
 
     job = models.ForeignKey(Job, on_delete=models.PROTECT, related_name="evidence")
+    step = models.ForeignKey(
+        RepairStep,
+        on_delete=models.PROTECT,
+        null=True,
+        blank=True,
+        related_name="evidence",
+        help_text="The repair step this file shows, if any (a step of the same job).",
+    )
+    caption = models.CharField(max_length=500, blank=True, help_text="What the file shows.")
     file = models.FileField(upload_to=evidence_path, max_length=255)
     label = models.CharField(max_length=255, blank=True, help_text="The client's file name.")
     content_type = models.CharField(max_length=100)

@@ -8,31 +8,73 @@ from django.contrib.auth import get_user_model
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
-from .models import Customer, Evidence, Job, JobMove, JobState, RepairStep, Unit
+from .models import (
+    RECORDABLE_METHOD_CHOICES,
+    Customer,
+    CustomerDecision,
+    Evidence,
+    HoldReason,
+    Job,
+    JobMove,
+    JobState,
+    RepairStep,
+    Unit,
+)
 from .workflow import allowed_targets
 
 MAX_PARTS_PER_STEP = 100
 
 
-class CustomerSerializer(serializers.ModelSerializer):
+class WarningSerializer(serializers.Serializer):
+    """A notice about a write that was kept: e.g. a likely duplicate of an existing record."""
+
+    code = serializers.CharField()
+    message = serializers.CharField()
+    existing = serializers.DictField(help_text="{type, id} of the record it refers to.")
+
+
+class WithWarnings(serializers.Serializer):
+    """Adds `warnings`: notices a service attached to the record it just wrote."""
+
+    warnings = serializers.SerializerMethodField(
+        help_text="Notices about this write (a likely duplicate names the existing record); "
+        "empty on reads."
+    )
+
+    @extend_schema_field(WarningSerializer(many=True))
+    def get_warnings(self, record) -> list[dict]:
+        return getattr(record, "warnings", [])
+
+
+class CustomerSerializer(WithWarnings, serializers.ModelSerializer):
     """A customer; the contact details (phone, email, notes) go to the front desk and leads only."""
 
     class Meta:
         model = Customer
-        fields = ["id", "name", "phone", "email", "notes", "version", "created_at", "updated_at"]
+        fields = [
+            "id",
+            "name",
+            "phone",
+            "email",
+            "notes",
+            "version",
+            "created_at",
+            "updated_at",
+            "warnings",
+        ]
         read_only_fields = ["version", "created_at", "updated_at"]
 
 
-class CustomerNameSerializer(serializers.ModelSerializer):
+class CustomerNameSerializer(WithWarnings, serializers.ModelSerializer):
     """A customer without contact details (what technicians see)."""
 
     class Meta:
         model = Customer
-        fields = ["id", "name", "version", "created_at", "updated_at"]
+        fields = ["id", "name", "version", "created_at", "updated_at", "warnings"]
         read_only_fields = fields
 
 
-class UnitSerializer(serializers.ModelSerializer):
+class UnitSerializer(WithWarnings, serializers.ModelSerializer):
     """A unit, its nameplate and construction; `chassis_may_be_live` flags isolation-only units."""
 
     owner_name = serializers.CharField(source="owner.name", read_only=True)
@@ -44,6 +86,11 @@ class UnitSerializer(serializers.ModelSerializer):
         max_length=2000,
         help_text="A lead's reason for a change that lowers the recorded hazard, or that "
         "changes construction, class or nameplate of a unit already powered up.",
+    )
+    nameplate_known = serializers.BooleanField(
+        read_only=True,
+        help_text="False when rated_voltage or rated_power is null (no legible nameplate): "
+        "power-up tests then need a load declared by a lead.",
     )
 
     class Meta:
@@ -70,12 +117,18 @@ class UnitSerializer(serializers.ModelSerializer):
             "cord",
             "chassis_may_be_live",
             "hazard_change_reason",
-            "condition_notes",
+            "nameplate_known",
             "version",
             "created_at",
             "updated_at",
+            "warnings",
         ]
         read_only_fields = ["version", "created_at", "updated_at"]
+        # Sent always, null when the nameplate is not legible: a forgotten figure is refused.
+        extra_kwargs = {
+            "rated_voltage": {"required": True, "allow_null": True},
+            "rated_power": {"required": True, "allow_null": True},
+        }
 
 
 class UnitBriefSerializer(serializers.ModelSerializer):
@@ -100,6 +153,28 @@ class LatestVerdictSerializer(serializers.Serializer):
     outcome = serializers.CharField()
 
 
+class CustomerDecisionSerializer(serializers.ModelSerializer):
+    """The customer's recorded answer to an estimate: who recorded it, how, when, what figure."""
+
+    recorded_by = serializers.CharField(
+        source="recorded_by.username", read_only=True, default=None, allow_null=True
+    )
+
+    class Meta:
+        model = CustomerDecision
+        fields = [
+            "id",
+            "decision",
+            "method",
+            "customer_name",
+            "estimate",
+            "recorded_by",
+            "decided_at",
+            "note",
+        ]
+        read_only_fields = fields
+
+
 class JobSerializer(serializers.ModelSerializer):
     """A repair job; its state changes only through the transition endpoint."""
 
@@ -117,6 +192,19 @@ class JobSerializer(serializers.ModelSerializer):
         allow_blank=True,
         read_only=True,
         help_text="The state a job on hold returns to (blank unless on hold).",
+    )
+    hold_reason = serializers.ChoiceField(
+        choices=HoldReason.choices,
+        allow_blank=True,
+        read_only=True,
+        help_text="Why the job is on hold (blank unless on hold); `hold_note` says more.",
+    )
+    hold_note = serializers.CharField(read_only=True)
+    approval = CustomerDecisionSerializer(
+        read_only=True,
+        allow_null=True,
+        help_text="The customer's approval the current work rests on (null until approved, "
+        "and again after the estimate is raised above the approved figure).",
     )
     allowed_targets = serializers.SerializerMethodField()
     ready_override_by = serializers.CharField(
@@ -136,15 +224,17 @@ class JobSerializer(serializers.ModelSerializer):
             "customer",
             "customer_name",
             "complaint",
+            "condition_at_intake",
             "received_on",
             "promised_on",
             "assigned_technician",
             "assigned_technician_name",
             "estimate",
-            "approved_by",
-            "approved_at",
+            "approval",
             "state",
             "held_from",
+            "hold_reason",
+            "hold_note",
             "allowed_targets",
             "latest_verdict",
             "ready_override",
@@ -184,12 +274,43 @@ class JobTransitionSerializer(serializers.Serializer):
 
     to_state = serializers.ChoiceField(choices=JobState.choices)
     note = serializers.CharField(max_length=2000, required=False, allow_blank=True, default="")
-    approved_by = serializers.CharField(
+    hold_reason = serializers.ChoiceField(
+        choices=HoldReason.choices,
+        required=False,
+        allow_blank=True,
+        default="",
+        help_text="Why the job is held (needed to move to on_hold; 'other' needs a note).",
+    )
+
+
+class CustomerAnswerSerializer(serializers.Serializer):
+    """The customer's answer to the estimate, as the desk heard it."""
+
+    method = serializers.ChoiceField(
+        choices=RECORDABLE_METHOD_CHOICES,
+        help_text="How the customer answered.",
+    )
+    customer_name = serializers.CharField(
         max_length=200,
         required=False,
         allow_blank=True,
         default="",
-        help_text="Who gave the customer's approval (needed to move to repairing).",
+        help_text="Who answered for the customer, if not the owner.",
+    )
+    note = serializers.CharField(max_length=2000, required=False, allow_blank=True, default="")
+
+
+class JobApprovalSerializer(CustomerAnswerSerializer):
+    """The customer's approval; `estimate`, if sent, must be the job's current estimate."""
+
+    estimate = serializers.DecimalField(
+        max_digits=9,
+        decimal_places=2,
+        min_value=Decimal("0"),
+        required=False,
+        allow_null=True,
+        default=None,
+        help_text="The figure the customer approved; refused (409) unless it is the job's.",
     )
     ready_override = serializers.CharField(
         max_length=2000,
@@ -271,6 +392,8 @@ class EvidenceSerializer(serializers.ModelSerializer):
         fields = [
             "id",
             "job",
+            "step",
+            "caption",
             "label",
             "content_type",
             "size",
@@ -288,7 +411,17 @@ class EvidenceSerializer(serializers.ModelSerializer):
 
 
 class EvidenceUploadSerializer(serializers.Serializer):
-    """A file to attach to a job (multipart form: `job` and `file`)."""
+    """A file to attach to a job (multipart form: `job`, `file`, optional `step` and `caption`)."""
 
     job = serializers.PrimaryKeyRelatedField(queryset=Job.objects.all())
     file = serializers.FileField(allow_empty_file=False, max_length=255)
+    step = serializers.PrimaryKeyRelatedField(
+        queryset=RepairStep.objects.all(),
+        required=False,
+        allow_null=True,
+        default=None,
+        help_text="A repair step of the same job that this file shows.",
+    )
+    caption = serializers.CharField(
+        max_length=500, required=False, allow_blank=True, default="", help_text="What it shows."
+    )

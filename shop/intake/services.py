@@ -14,14 +14,19 @@ from shop.bench.readiness import readiness_refusal
 from shop.core.audit import audit_record
 from shop.core.errors import ApplicationError, Conflict, Forbidden
 from shop.core.numbering import next_in_year
-from shop.core.roles import LEAD, TECHNICIAN, has_role, user_roles
+from shop.core.roles import FRONT_DESK, LEAD, TECHNICIAN, has_role, user_roles
 from shop.core.services import create_validated, only_fields, update_versioned
 from shop.core.versioning import check_version
 
+from . import selectors
 from .facts import hazard_lowering, rule_fields_changed, unit_facts
 from .models import (
+    RECORDABLE_METHODS,
     Customer,
+    CustomerDecision,
+    Decision,
     Evidence,
+    HoldReason,
     Job,
     JobMove,
     JobNumberCounter,
@@ -29,8 +34,14 @@ from .models import (
     RepairStep,
     Unit,
 )
-from .sniffing import SNIFF_BYTES, UnacceptableFile, sniff
-from .workflow import allowed_targets, role_may_move_to
+from .sniffing import SIZE_KIND, SNIFF_BYTES, UnacceptableFile, sniff
+from .workflow import (
+    ESTIMATE_SETTLED_STATES,
+    NEEDS_APPROVAL,
+    REAPPROVAL_STATES,
+    allowed_targets,
+    role_may_move_to,
+)
 
 # A repair step's time: not before this (no shop kept records on this service earlier), and
 # not later than now plus a little clock difference between the bench's device and the server.
@@ -55,32 +66,46 @@ UNIT_FIELDS = (
     "construction",
     "protection_class",
     "cord",
-    "condition_notes",
 )
 JOB_FIELDS = (
     "complaint",
+    "condition_at_intake",
     "received_on",
     "promised_on",
     "assigned_technician",
     "estimate",
-    "approved_by",
-    "approved_at",
 )
 HASH_CHUNK = 1 << 20
 # A declined job goes back unrepaired: no power-up test stands behind its "ready".
 UNREPAIRED_STATES = frozenset({JobState.DECLINED})
 
 
+def _duplicate_warning(kind: str, existing, described: str) -> dict:
+    return {
+        "code": f"possible_duplicate_{kind}",
+        "message": f"{described} is already recorded as {kind} {existing.pk}; check before "
+        "keeping both.",
+        "existing": {"type": kind, "id": existing.pk},
+    }
+
+
 @transaction.atomic
 def customer_create(
     *, actor, name: str, phone: str = "", email: str = "", notes: str = ""
 ) -> Customer:
-    return create_validated(
+    """Record a customer; `warnings` on the result names any customer of the same name and
+    phone (the record is kept: two people may share both)."""
+    customer = create_validated(
         Customer,
         {"name": name, "phone": phone, "email": email, "notes": notes},
         actor=actor,
         action="customer.create",
     )
+    customer.warnings = [
+        _duplicate_warning("customer", other, f"{other.name} ({other.phone})")
+        for other in selectors.customer_duplicates(name=name, phone=phone, exclude=customer.pk)
+    ]
+    return customer
 
 
 @transaction.atomic
@@ -98,9 +123,19 @@ def customer_update(
 
 @transaction.atomic
 def unit_create(*, actor, **fields) -> Unit:
-    return create_validated(
+    """Record a unit; `warnings` on the result names any unit of the same maker and serial."""
+    unit = create_validated(
         Unit, only_fields(fields, UNIT_FIELDS), actor=actor, action="unit.create"
     )
+    unit.warnings = [
+        _duplicate_warning(
+            "unit", other, f"{other.maker} serial {other.serial} (owner {other.owner.name})"
+        )
+        for other in selectors.unit_duplicates(
+            maker=unit.maker, serial=unit.serial, exclude=unit.pk
+        )
+    ]
+    return unit
 
 
 def _guarded_fields(unit: Unit, changes: dict) -> list[str]:
@@ -204,12 +239,115 @@ def job_create(
 
 @transaction.atomic
 def job_update(*, job: Job, expected_version: int | None, actor, **changes) -> Job:
+    """Change a job's own fields; raising the estimate above an approved figure asks again.
+
+    The approval no longer covers the job: a job repairing or testing goes back to
+    awaiting_approval (a recorded move), a held one will resume there. A job ready or
+    returned has settled its estimate and refuses a raise.
+    """
     only_fields(changes, JOB_FIELDS)
     if "assigned_technician" in changes:
         _check_technician(changes["assigned_technician"])
-    return update_versioned(
-        job, expected=expected_version, changes=changes, actor=actor, action="job.update"
+    locked = _lock(job, expected_version)
+    if not _raises_approved_estimate(locked, changes.get("estimate")):
+        return update_versioned(
+            locked, expected=None, changes=changes, actor=actor, action="job.update"
+        )
+    if locked.state in ESTIMATE_SETTLED_STATES:
+        raise Conflict(
+            f"A job in '{locked.state}' has settled its estimate; it cannot be raised.",
+            field="estimate",
+            code="estimate_settled",
+        )
+    note = (
+        f"Estimate raised from {locked.approval.estimate} to {changes['estimate']} after the "
+        "customer's approval; the customer must approve the new figure."
     )
+    if locked.state in REAPPROVAL_STATES:
+        _record_move(locked, to_state=JobState.AWAITING_APPROVAL, actor=actor, note=note)
+        changes["state"] = JobState.AWAITING_APPROVAL
+    elif locked.state == JobState.ON_HOLD and locked.held_from in REAPPROVAL_STATES:
+        changes["held_from"] = JobState.AWAITING_APPROVAL
+    changes["approval"] = None
+    return update_versioned(
+        locked, expected=None, changes=changes, actor=actor, action="job.estimate_raised"
+    )
+
+
+def _raises_approved_estimate(job: Job, estimate) -> bool:
+    if job.approval is None or estimate is None:
+        return False
+    approved = job.approval.estimate
+    return approved is None or estimate > approved
+
+
+def _check_move(locked: Job, *, to_state: str, actor) -> None:
+    """Refuse a move the workflow table or the actor's role does not allow."""
+    targets = allowed_targets(locked.state, locked.held_from)
+    if to_state not in targets:
+        raise Conflict(
+            f"A job in '{locked.state}' cannot move to '{to_state}'. "
+            f"Allowed next: {', '.join(targets) or 'none (the job is closed)'}.",
+            field="to_state",
+            code="illegal_move",
+            extra={"allowed_targets": targets, "state": locked.state},
+        )
+    if not role_may_move_to(user_roles(actor), to_state, locked.state):
+        raise Forbidden(
+            f"Your role may not move a job to '{to_state}'. Ask a shop lead.",
+            field="to_state",
+        )
+
+
+def _record_move(locked: Job, *, to_state: str, actor, note: str) -> None:
+    JobMove.objects.create(
+        job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note
+    )
+
+
+def _move(
+    locked: Job,
+    *,
+    to_state: str,
+    actor,
+    note: str,
+    changes: dict | None = None,
+    ready_override: str = "",
+) -> Job:
+    """Check and make one move of a locked job, recording it; `changes` ride along.
+
+    Every move to ready (but from declined) passes the readiness gate here, whichever service
+    asked for it.
+    """
+    _check_move(locked, to_state=to_state, actor=actor)
+    changes = {**(changes or {}), "state": to_state}
+    if to_state == JobState.READY and locked.state not in UNREPAIRED_STATES:
+        changes.update(_readiness(locked, actor, ready_override))
+    elif ready_override:
+        raise ApplicationError(
+            "A ready override goes only with a move to ready.", field="ready_override"
+        )
+    if to_state == JobState.AWAITING_APPROVAL:
+        changes["approval"] = None
+    if to_state in NEEDS_APPROVAL and changes.get("approval", locked.approval) is None:
+        raise Conflict(
+            f"Job {locked.number} has no customer approval of its current estimate. The desk "
+            f"records it with POST /api/jobs/{locked.pk}/approve/.",
+            field="approval",
+            code="approval_required",
+        )
+    if locked.state == JobState.ON_HOLD:
+        changes.update(held_from="", hold_reason="", hold_note="")
+    _record_move(locked, to_state=to_state, actor=actor, note=note)
+    return update_versioned(
+        locked, expected=None, changes=changes, actor=actor, action="job.transition"
+    )
+
+
+def _lock(job: Job, expected_version: int | None) -> Job:
+    locked = Job.objects.select_for_update().select_related("approval").get(pk=job.pk)
+    check_version(locked, expected_version)
+    return locked
 
 
 @transaction.atomic
@@ -220,58 +358,177 @@ def job_transition(
     actor,
     note: str = "",
     expected_version: int | None = None,
-    approved_by: str = "",
+    hold_reason: str = "",
     ready_override: str = "",
 ) -> Job:
     """Move a job to `to_state` under a row lock, and record who moved it, when and why.
 
-    Moving from awaiting_approval to repairing needs the customer's approval: pass
-    `approved_by` (who approved) unless the job already records it. Moving to ready (but
-    from declined) needs the latest closed power-up test to have passed, or a lead's stated
-    reason (`ready_override`), kept on the job.
+    Putting a job on hold needs a `hold_reason` (and a note when the reason is "other").
+    Reaching repairing needs the customer's approval recorded by `job_approve`. Moving to
+    ready (but from declined) needs the latest closed power-up test to have passed, or a
+    lead's stated reason (`ready_override`), kept on the job.
     """
-    locked = Job.objects.select_for_update().get(pk=job.pk)
-    check_version(locked, expected_version)
+    locked = _lock(job, expected_version)
     if to_state not in JobState.values:
         raise ApplicationError(
             f"'{to_state}' is not a job state. Known states: {', '.join(JobState.values)}.",
             field="to_state",
         )
-    targets = allowed_targets(locked.state, locked.held_from)
-    if to_state not in targets:
-        raise Conflict(
-            f"A job in '{locked.state}' cannot move to '{to_state}'. "
-            f"Allowed next: {', '.join(targets) or 'none (the job is closed)'}.",
-            field="to_state",
-            code="illegal_move",
-            extra={"allowed_targets": targets, "state": locked.state},
-        )
-    if not role_may_move_to(user_roles(actor), to_state):
-        raise Forbidden(
-            f"Your role may not move a job to '{to_state}'. Ask a shop lead.",
-            field="to_state",
-        )
-    changes: dict = {"state": to_state}
+    _check_move(locked, to_state=to_state, actor=actor)
+    changes: dict = {}
     if to_state == JobState.ON_HOLD:
-        changes["held_from"] = locked.state
-    elif locked.state == JobState.ON_HOLD:
-        changes["held_from"] = ""
-    if locked.state == JobState.AWAITING_APPROVAL and to_state == JobState.REPAIRING:
-        if approved_by:
-            changes.update(approved_by=approved_by, approved_at=timezone.now())
-        elif not locked.approved_by:
-            raise ApplicationError(
-                "Record who approved the repair (approved_by) before moving to repairing.",
-                field="approved_by",
-                code="approval_required",
-            )
-    if to_state == JobState.READY and locked.state not in UNREPAIRED_STATES:
-        changes.update(_readiness(locked, actor, ready_override))
-    JobMove.objects.create(
-        job=locked, from_state=locked.state, to_state=to_state, moved_by=actor, note=note
+        changes = _hold_changes(locked, hold_reason=hold_reason, note=note)
+    elif hold_reason:
+        raise ApplicationError(
+            "A hold reason goes only with a move to on_hold.", field="hold_reason"
+        )
+    return _move(
+        locked,
+        to_state=to_state,
+        actor=actor,
+        note=note,
+        changes=changes,
+        ready_override=ready_override,
     )
-    return update_versioned(
-        locked, expected=None, changes=changes, actor=actor, action="job.transition"
+
+
+def _hold_changes(locked: Job, *, hold_reason: str, note: str) -> dict:
+    if hold_reason not in HoldReason.values:
+        raise ApplicationError(
+            f"Say why the job is held: hold_reason one of {', '.join(HoldReason.values)}.",
+            field="hold_reason",
+            code="hold_reason_required",
+        )
+    if hold_reason == HoldReason.OTHER and not note.strip():
+        raise ApplicationError(
+            "A hold for another reason needs a note saying what the job waits for.",
+            field="note",
+        )
+    return {"held_from": locked.state, "hold_reason": hold_reason, "hold_note": note}
+
+
+# What each answer does to the job: the state it moves to, and how the move reads.
+ANSWER_MOVES = {Decision.APPROVED: JobState.REPAIRING, Decision.DECLINED: JobState.DECLINED}
+
+
+def _answer(
+    *,
+    job: Job,
+    expected_version: int | None,
+    decision: str,
+    actor,
+    method: str,
+    customer_name: str,
+    estimate,
+    note: str,
+) -> Job:
+    """Record the customer's answer to the estimate and make the move it calls for."""
+    job = _lock(job, expected_version)
+    if not has_role(actor, FRONT_DESK, LEAD):
+        raise Forbidden("The front desk or a lead records the customer's answer.", field="decision")
+    if method not in RECORDABLE_METHODS:
+        raise ApplicationError(
+            f"Say how the customer answered: method one of {', '.join(RECORDABLE_METHODS)}.",
+            field="method",
+        )
+    if job.state != JobState.AWAITING_APPROVAL:
+        raise Conflict(
+            f"Job {job.number} is '{job.state}'; the customer answers an estimate only while "
+            "the job is awaiting_approval.",
+            field="state",
+            code="not_awaiting_approval",
+            extra={"state": job.state},
+        )
+    if job.estimate is None:
+        raise Conflict(
+            f"Job {job.number} has no estimate; record the estimate before the answer.",
+            field="estimate",
+            code="estimate_missing",
+        )
+    if estimate is not None and estimate != job.estimate:
+        raise Conflict(
+            f"The job's estimate is {job.estimate}, not {estimate}; the customer answers the "
+            "job's current estimate (change it first if it is wrong).",
+            field="estimate",
+            code="estimate_mismatch",
+        )
+    record = CustomerDecision(
+        job=job,
+        decision=decision,
+        method=method,
+        customer_name=customer_name,
+        estimate=job.estimate,
+        recorded_by=actor,
+        decided_at=timezone.now(),
+        note=note,
+    )
+    record.full_clean()
+    record.save()
+    audit_record(
+        actor=actor,
+        action=f"job.{'approve' if decision == Decision.APPROVED else 'decline'}",
+        instance=record,
+        changes={
+            "job": job,
+            "decision": decision,
+            "method": method,
+            "customer_name": customer_name,
+            "estimate": job.estimate,
+            "note": note,
+        },
+    )
+    move_note = note or f"{record.get_decision_display()} {record.get_method_display().lower()}."
+    changes = {"approval": record} if decision == Decision.APPROVED else {}
+    return _move(job, to_state=ANSWER_MOVES[decision], actor=actor, note=move_note, changes=changes)
+
+
+@transaction.atomic
+def job_approve(
+    *,
+    job: Job,
+    actor,
+    method: str,
+    estimate=None,
+    customer_name: str = "",
+    note: str = "",
+    expected_version: int | None = None,
+) -> Job:
+    """Record the customer's approval of the job's estimate and move the job to repairing.
+
+    `estimate`, when given, must be the job's current estimate: the figure the customer heard.
+    """
+    return _answer(
+        job=job,
+        expected_version=expected_version,
+        decision=Decision.APPROVED,
+        actor=actor,
+        method=method,
+        customer_name=customer_name,
+        estimate=estimate,
+        note=note,
+    )
+
+
+@transaction.atomic
+def job_decline(
+    *,
+    job: Job,
+    actor,
+    method: str,
+    customer_name: str = "",
+    note: str = "",
+    expected_version: int | None = None,
+) -> Job:
+    """Record that the customer declined the estimate and move the job to declined."""
+    return _answer(
+        job=job,
+        expected_version=expected_version,
+        decision=Decision.DECLINED,
+        actor=actor,
+        method=method,
+        customer_name=customer_name,
+        estimate=None,
+        note=note,
     )
 
 
@@ -366,29 +623,56 @@ def _digest_and_head(upload) -> tuple[str, bytes]:
     return sha.hexdigest(), head
 
 
-def evidence_attach(*, job: Job, upload, uploaded_by) -> tuple[Evidence, bool]:
-    """Store an uploaded file on a job; return (record, created).
+def evidence_size_limit(content_type: str) -> int:
+    """The largest file of this kind kept as evidence [bytes] (settings per kind)."""
+    kind = SIZE_KIND.get(content_type, "")
+    return settings.EVIDENCE_MAX_BYTES_BY_KIND.get(kind, settings.EVIDENCE_MAX_BYTES)
 
-    The same content twice on one job answers the existing record with created=False.
-    """
-    limit = settings.EVIDENCE_MAX_BYTES
-    if upload.size > limit:
+
+def _refuse_size(size: int, limit: int, what: str = "file") -> None:
+    if size > limit:
         raise ApplicationError(
-            f"The file is {upload.size} bytes; the limit is {limit} bytes.",
+            f"The {what} is {size} bytes; the limit is {limit} bytes.",
             field="file",
             code="file_too_large",
         )
+
+
+def evidence_attach(
+    *, job: Job, upload, uploaded_by, step: RepairStep | None = None, caption: str = ""
+) -> tuple[Evidence, bool]:
+    """Store an uploaded file on a job; return (record, created).
+
+    A returned job takes no more evidence. `step`, when given, must belong to the job. The
+    same content twice on one job answers the existing record with created=False.
+    """
+    if job.state == JobState.RETURNED:
+        raise Conflict(
+            "The job is closed (returned); open a new job for further work.",
+            field="job",
+            code="job_closed",
+        )
+    if step is not None and step.job_id != job.pk:
+        raise ApplicationError(
+            f"Step {step.pk} belongs to another job; link evidence to a step of job {job.number}.",
+            field="step",
+        )
+    largest = max(settings.EVIDENCE_MAX_BYTES, *settings.EVIDENCE_MAX_BYTES_BY_KIND.values())
+    _refuse_size(upload.size, largest)
     digest, head = _digest_and_head(upload)
     label = (upload.name or "")[:255]
     try:
         kind = sniff(head, label)
     except UnacceptableFile as exc:
         raise ApplicationError(str(exc), field="file", code="file_type_refused") from exc
+    _refuse_size(upload.size, evidence_size_limit(kind.content_type), kind.content_type)
     existing = Evidence.objects.filter(job=job, sha256=digest).first()
     if existing:
         return existing, False
     evidence = Evidence(
         job=job,
+        step=step,
+        caption=caption,
         label=label,
         content_type=kind.content_type,
         extension=kind.extension,
@@ -406,6 +690,8 @@ def evidence_attach(*, job: Job, upload, uploaded_by) -> tuple[Evidence, bool]:
                 instance=evidence,
                 changes={
                     "job": job,
+                    "step": step,
+                    "caption": caption,
                     "label": label,
                     "content_type": kind.content_type,
                     "size": upload.size,

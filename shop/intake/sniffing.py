@@ -16,6 +16,9 @@ BINARY_TYPES = {
     "image/gif": ".gif",
     "image/webp": ".webp",
     "application/pdf": ".pdf",
+    "image/heic": ".heic",
+    "image/heif": ".heif",
+    "video/mp4": ".mp4",
 }
 TEXT_TYPES = {"text/csv": ".csv", "text/plain": ".txt"}
 ALLOWED_TYPES = {**BINARY_TYPES, **TEXT_TYPES}
@@ -28,9 +31,49 @@ CLAIMED_BY_EXTENSION = {
     ".gif": "image/gif",
     ".webp": "image/webp",
     ".pdf": "application/pdf",
+    ".heic": "image/heic",
+    ".heif": "image/heif",
+    ".mp4": "video/mp4",
+    ".m4v": "video/mp4",
     ".csv": "text/csv",
     ".txt": "text/plain",
     ".log": "text/plain",
+}
+# ISO base media files (phone photos and videos) name their kind by "brands" in their first
+# box, `ftyp` (ISO/IEC 14496-12): HEIF stills (ISO/IEC 23008-12) and MP4 video (ISO/IEC
+# 14496-14). Brand lists from memory of those standards; QuickTime (.mov, brand "qt  ") and
+# AVIF are not among them.
+ISO_BRANDS = {
+    b"heic": "image/heic",
+    b"heix": "image/heic",
+    b"heim": "image/heic",
+    b"heis": "image/heic",
+    b"mif1": "image/heif",
+    b"msf1": "image/heif",
+    b"isom": "video/mp4",
+    b"iso2": "video/mp4",
+    b"iso4": "video/mp4",
+    b"iso5": "video/mp4",
+    b"iso6": "video/mp4",
+    b"mp41": "video/mp4",
+    b"mp42": "video/mp4",
+    b"avc1": "video/mp4",
+    b"M4V ": "video/mp4",
+}
+# Names that may stand for one another: a phone's .heic file is often branded plain HEIF.
+INTERCHANGEABLE = ({"text/csv", "text/plain"}, {"image/heic", "image/heif"})
+# Kinds by the size limit they fall under (settings.EVIDENCE_MAX_BYTES_BY_KIND).
+SIZE_KIND = {
+    "image/jpeg": "image",
+    "image/png": "image",
+    "image/gif": "image",
+    "image/webp": "image",
+    "image/heic": "image",
+    "image/heif": "image",
+    "video/mp4": "video",
+    "application/pdf": "document",
+    "text/csv": "text",
+    "text/plain": "text",
 }
 # Markup and scripts are refused even though they are text: a browser may run them.
 MARKUP_PREFIXES = (b"<!doctype", b"<html", b"<svg", b"<?xml", b"<script", b"<body", b"<head")
@@ -71,6 +114,21 @@ def _is_csv(head: bytes) -> bool:
     return len(widths) == 1 and widths.pop() >= 2
 
 
+def _iso_media_type(head: bytes) -> str | None:
+    """The evidence kind an ISO base media file's `ftyp` box names, major brand first."""
+    if len(head) < 16 or head[4:8] != b"ftyp":
+        return None
+    box_size = int.from_bytes(head[:4], "big")
+    if box_size < 16 or box_size % 4:
+        return None
+    end = min(box_size, len(head))
+    brands = [head[8:12]] + [head[i : i + 4] for i in range(16, end - 3, 4)]
+    for brand in brands:
+        if brand in ISO_BRANDS:
+            return ISO_BRANDS[brand]
+    return None
+
+
 def sniff(head: bytes, label: str = "") -> Sniffed:
     """Classify an upload from its first bytes; raise UnacceptableFile when it is not allowed.
 
@@ -79,10 +137,12 @@ def sniff(head: bytes, label: str = "") -> Sniffed:
     """
     if not head:
         raise UnacceptableFile("The file is empty.")
-    try:
-        detected = puremagic.from_string(head, mime=True) or None
-    except puremagic.PureError:
-        detected = None
+    detected = _iso_media_type(head)
+    if detected is None:
+        try:
+            detected = puremagic.from_string(head, mime=True) or None
+        except puremagic.PureError:
+            detected = None
     if detected in BINARY_TYPES:
         content_type = detected
     elif detected is None and _looks_like_text(head):
@@ -92,12 +152,12 @@ def sniff(head: bytes, label: str = "") -> Sniffed:
     else:
         kind = detected or "an unrecognised binary format"
         raise UnacceptableFile(
-            f"The content is {kind}; accepted kinds are photos (JPEG, PNG, GIF, WebP), PDF, "
-            "CSV and plain text."
+            f"The content is {kind}; accepted kinds are photos (JPEG, PNG, GIF, WebP, "
+            "HEIC/HEIF), MP4 video, PDF, CSV and plain text."
         )
     claimed = CLAIMED_BY_EXTENSION.get(PurePath(label).suffix.lower())
-    text_pair = {claimed, content_type} <= set(TEXT_TYPES)
-    if claimed and claimed != content_type and not text_pair:
+    alike = any({claimed, content_type} <= group for group in INTERCHANGEABLE)
+    if claimed and claimed != content_type and not alike:
         raise UnacceptableFile(
             f"The name says {claimed} but the content is {content_type}. Upload the real file "
             "or give it its proper name."

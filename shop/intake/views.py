@@ -17,10 +17,12 @@ from shop.core.views import VersionedModelViewSet
 from . import selectors, services
 from .filters import EvidenceFilter, JobFilter, RepairStepFilter, UnitFilter
 from .serializers import (
+    CustomerAnswerSerializer,
     CustomerNameSerializer,
     CustomerSerializer,
     EvidenceSerializer,
     EvidenceUploadSerializer,
+    JobApprovalSerializer,
     JobMoveSerializer,
     JobSerializer,
     JobTransitionSerializer,
@@ -130,6 +132,8 @@ class JobViewSet(VersionedModelViewSet):
         "create": DESK,
         "update": DESK,
         "transition": ANY_ROLE,
+        "approve": DESK,
+        "decline": DESK,
         "moves": ANY_ROLE,
     }
 
@@ -164,6 +168,39 @@ class JobViewSet(VersionedModelViewSet):
             **serializer.validated_data,
         )
         return self.versioned_response(moved)
+
+    @extend_schema(
+        request=JobApprovalSerializer,
+        responses={200: JobSerializer, **WRITE_ERROR_RESPONSES},
+        description="Record the customer's approval of the job's current estimate (who "
+        "recorded it, how the customer answered, when, the figure) and move the job from "
+        "awaiting_approval to repairing. Front desk and leads.",
+    )
+    @action(detail=True, methods=["post"])
+    def approve(self, request, pk=None):
+        return self._answer(request, JobApprovalSerializer, services.job_approve)
+
+    @extend_schema(
+        request=CustomerAnswerSerializer,
+        responses={200: JobSerializer, **WRITE_ERROR_RESPONSES},
+        description="Record that the customer declined the estimate and move the job from "
+        "awaiting_approval to declined. Front desk and leads.",
+    )
+    @action(detail=True, methods=["post"])
+    def decline(self, request, pk=None):
+        return self._answer(request, CustomerAnswerSerializer, services.job_decline)
+
+    def _answer(self, request, serializer_class, service):
+        job = self.get_object()
+        serializer = serializer_class(data=request.data)
+        serializer.is_valid(raise_exception=True)
+        answered = service(
+            job=job,
+            actor=request.user,
+            expected_version=expected_version(request),
+            **serializer.validated_data,
+        )
+        return self.versioned_response(answered)
 
     @extend_schema(responses={200: JobMoveSerializer(many=True), **ERROR_RESPONSES})
     @action(detail=True, methods=["get"], pagination_class=None, filter_backends=[])
@@ -229,10 +266,13 @@ class EvidenceViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin, viewsets
     def create(self, request, *args, **kwargs):
         serializer = EvidenceUploadSerializer(data=request.data)
         serializer.is_valid(raise_exception=True)
+        data = serializer.validated_data
         evidence, created = services.evidence_attach(
-            job=serializer.validated_data["job"],
-            upload=serializer.validated_data["file"],
+            job=data["job"],
+            upload=data["file"],
             uploaded_by=request.user,
+            step=data["step"],
+            caption=data["caption"],
         )
         return Response(self.get_serializer(evidence).data, status=201 if created else 200)
 

@@ -134,6 +134,9 @@ DATABASES = {
     )
 }
 if DATABASES["default"]["ENGINE"] == "django.db.backends.sqlite3":
+    # SQLite opens its file but makes no folder: a fresh clone has no var/ (it is git-ignored).
+    if DATABASES["default"]["NAME"] not in {"", ":memory:"}:
+        Path(DATABASES["default"]["NAME"]).parent.mkdir(parents=True, exist_ok=True)
     # WAL and a busy timeout so that two benches writing at once wait instead of failing.
     DATABASES["default"].setdefault("OPTIONS", {}).update(
         {"timeout": 20, "transaction_mode": "IMMEDIATE", "init_command": "PRAGMA journal_mode=WAL;"}
@@ -225,12 +228,21 @@ if os.environ.get("AWS_STORAGE_BUCKET_NAME"):
         os.environ["AWS_STORAGE_BUCKET_NAME"], os.environ.get("AWS_S3_ENDPOINT_URL")
     )
 
-# Largest evidence upload accepted, in bytes.
+# Largest evidence upload accepted, in bytes; a kind of file named in
+# EVIDENCE_MAX_BYTES_BY_KIND (image, video, document, text) has its own limit instead.
 EVIDENCE_MAX_BYTES = int(os.environ.get("EVIDENCE_MAX_BYTES", str(20 * 1024 * 1024)))
 # Largest request body read at all: the largest evidence file plus room for the multipart
 # envelope and form fields. Larger requests are refused (413) before their body is read.
 REQUEST_SIZE_MARGIN = 1024 * 1024
 REQUEST_MAX_BYTES = EVIDENCE_MAX_BYTES + REQUEST_SIZE_MARGIN
+EVIDENCE_MAX_BYTES_BY_KIND = {
+    "video": int(os.environ.get("EVIDENCE_VIDEO_MAX_BYTES", str(100 * 1024 * 1024))),
+    **{
+        kind: int(os.environ[f"EVIDENCE_{kind.upper()}_MAX_BYTES"])
+        for kind in ("image", "document", "text")
+        if os.environ.get(f"EVIDENCE_{kind.upper()}_MAX_BYTES")
+    },
+}
 # Most readings one CSV import may carry (separate from the upload size limit).
 READINGS_CSV_MAX_ROWS = int(os.environ.get("READINGS_CSV_MAX_ROWS", "10000"))
 # Restore refuses an archive member that unpacks to more bytes than this (a zip bomb, a forged
@@ -250,6 +262,7 @@ REST_FRAMEWORK = {
     "DEFAULT_PAGINATION_CLASS": "shop.core.pagination.ShopPagination",
     "PAGE_SIZE": 50,
     "DEFAULT_FILTER_BACKENDS": [
+        "shop.core.query_parameters.KnownQueryParameters",
         "django_filters.rest_framework.DjangoFilterBackend",
         "rest_framework.filters.SearchFilter",
         "shop.core.ordering.ShopOrderingFilter",
@@ -283,6 +296,8 @@ SPECTACULAR_SETTINGS = {
     "ENUM_NAME_OVERRIDES": {
         "JobStateEnum": "shop.intake.models.JobState",
         "SourcePointEnum": "shop.bench.models.SourcePoint",
+        "DecisionMethodEnum": "shop.intake.models.DecisionMethod",
+        "RecordableMethodEnum": "shop.intake.models.RECORDABLE_METHOD_CHOICES",
     },
 }
 

@@ -292,7 +292,6 @@ def text_field_cases(world) -> list[tuple]:
                 "model_name",
                 "serial",
                 "voltage_selector_as_found",
-                "condition_notes",
             )
         ],
         (
@@ -304,18 +303,18 @@ def text_field_cases(world) -> list[tuple]:
             latest(Job, "complaint"),
         ),
         (
-            "job approved_by",
-            "patch",
-            f"/api/jobs/{job.pk}/",
-            {"approved_by": "TEXT"},
-            "approved_by",
-            reread(job, "approved_by"),
+            "job condition at intake",
+            "post",
+            "/api/jobs/",
+            {"unit": world["unit"].pk, "complaint": "C", "condition_at_intake": "TEXT"},
+            "condition_at_intake",
+            latest(Job, "condition_at_intake"),
         ),
         (
             "move note",
             "post",
             f"/api/jobs/{job.pk}/transition/",
-            {"to_state": "on_hold", "note": "TEXT"},
+            {"to_state": "on_hold", "hold_reason": "waiting_for_customer", "note": "TEXT"},
             "note",
             lambda: job.moves.order_by("-pk").first().note,
         ),

@@ -29,7 +29,15 @@ from schemathesis.specs.openapi import checks as openapi_checks
 from reports.models import Certificate
 from shop.bench.models import Instrument, Lamp, LampBank, PowerUpTest, Rig
 from shop.bench.models import TestStatus as PowerUpStatus
-from shop.intake.models import Customer, Evidence, Job, JobState, RepairStep, Unit
+from shop.intake.models import (
+    RECORDABLE_METHODS,
+    Customer,
+    Evidence,
+    Job,
+    JobState,
+    RepairStep,
+    Unit,
+)
 from shop.intake.workflow import allowed_targets
 
 from .conftest import CERTIFIABLE_STATES, in_process_app, once_per_ci_run
@@ -94,6 +102,10 @@ OPEN_TEST_OPERATIONS = {
     "POST /api/powerups/{id}/readings/import/",
 }
 
+# The customer's answer to an estimate: steered to jobs awaiting it, with a method the desk
+# may record and no estimate of the fuzzer's own (it must equal the job's).
+ANSWER_OPERATIONS = {"POST /api/jobs/{id}/approve/", "POST /api/jobs/{id}/decline/"}
+
 
 def _ids(queryset) -> list:
     return list(queryset.order_by("pk").values_list("pk", flat=True))
@@ -123,6 +135,9 @@ def id_pools() -> dict[str, list]:
             Job.objects.filter(
                 state__in=CERTIFIABLE_STATES, powerups__status=PowerUpStatus.CLOSED
             ).distinct()
+        ),
+        "awaiting_jobs": _ids(
+            Job.objects.filter(state=JobState.AWAITING_APPROVAL).exclude(estimate=None)
         ),
         "lamps_by_rig": dict(lamps_by_rig),
         "rig_of_lamp": dict(Lamp.objects.values_list("pk", "rig_id")),
@@ -220,6 +235,9 @@ def _steer_body(steer: Steering, case) -> object:
         body.pop("calibration_points", None)
         if "rig" in body and path.get("id") in steer.pools["rig_of_lamp"]:
             body["rig"] = steer.pools["rig_of_lamp"][path["id"]]
+    elif label in ANSWER_OPERATIONS and steer.now():
+        body["method"] = steer.draw(st.sampled_from([m.value for m in RECORDABLE_METHODS]))
+        body.pop("estimate", None)
     elif label == "POST /api/jobs/{id}/transition/" and steer.now():
         targets = steer.pools["job_targets"].get(path.get("id"))
         if targets:
@@ -239,7 +257,14 @@ def _steer_path(steer: Steering, case) -> None:
     params = case.path_parameters or {}
     if "id" in params and steer.now():
         segment = case.operation.path.split("/")[2]
-        pool = "open_tests" if case.operation.label in OPEN_TEST_OPERATIONS else segment
+        label = case.operation.label
+        pool = (
+            "open_tests"
+            if label in OPEN_TEST_OPERATIONS
+            else "awaiting_jobs"
+            if label in ANSWER_OPERATIONS
+            else segment
+        )
         if steer.pools.get(pool):
             params["id"] = steer.pick(pool)
     if "number" in params and steer.pools["verification"] and steer.now():

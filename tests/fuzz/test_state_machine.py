@@ -36,7 +36,14 @@ from shop.bench.models import PowerUpTest, Reading, Verdict
 from shop.bench.services import CLOSED_JOB_STATES
 from shop.core.roles import FRONT_DESK, LEAD, TECHNICIAN
 from shop.intake.models import Job, JobMove, JobState
-from shop.intake.workflow import ALLOWED_MOVES, allowed_targets, role_may_move_to
+from shop.intake.workflow import (
+    ALLOWED_MOVES,
+    ESTIMATE_SETTLED_STATES,
+    NEEDS_APPROVAL,
+    REAPPROVAL_STATES,
+    allowed_targets,
+    role_may_move_to,
+)
 
 from .conftest import SEED_DECLARED_LOAD, SEED_READINGS, assert_error_shape, once_per_ci_run
 from .content import plausible_readings
@@ -47,9 +54,10 @@ pytestmark = once_per_ci_run
 # came first.
 schemathesis_hypothesis_setup()
 
-STEPS_PER_RUN = 30
+STEPS_PER_RUN = 40
 RUNS = 60
-APPROVERS = ["", "Orla by phone"]
+HOLD_REASONS = ["", "waiting_for_parts"]
+DESK_ROLES = (FRONT_DESK, LEAD)
 # The moves that bring a new job to the bench.
 BENCH_PATH = (
     JobState.DIAGNOSING,
@@ -62,6 +70,8 @@ ROLES_LEAD_FIRST = (LEAD, TECHNICIAN, FRONT_DESK)
 # Every kind of success and refusal must happen this often over the runs.
 EXPECTED_OUTCOMES = (
     "moved",
+    "approved",
+    "estimate raised",
     "readings added",
     "closed",
     "edited",
@@ -136,7 +146,10 @@ class ShopRules(RuleBasedStateMachine):
         if self._bench_job is None:
             self._bench_job = self.new_job()
             for target in BENCH_PATH:
-                self.move(self._bench_job, target, LEAD, approved_by="Orla by phone")
+                if target == JobState.REPAIRING:
+                    self.approve(self._bench_job, FRONT_DESK)
+                else:
+                    self.move(self._bench_job, target, LEAD, hold_reason="")
             test = self.open_test(self._bench_job)
             self.add_readings(test, SEED_READINGS)
             self.close_test(test, TECHNICIAN)
@@ -173,12 +186,21 @@ class ShopRules(RuleBasedStateMachine):
     def new_job(self) -> int:
         response = self.client(FRONT_DESK).post(
             "/api/jobs/",
-            {"unit": self.world["unit"].pk, "complaint": "Dead after a thunderstorm."},
+            {
+                "unit": self.world["unit"].pk,
+                "complaint": "Dead after a thunderstorm.",
+                "estimate": "120.00",
+            },
             format="json",
         )
         assert response.status_code == 201, response.content
         job_id = response.json()["id"]
-        self.job_model[job_id] = {"state": JobState.RECEIVED, "held_from": "", "approved": False}
+        self.job_model[job_id] = {
+            "state": JobState.RECEIVED,
+            "held_from": "",
+            "approved": False,
+            "estimate": 120,
+        }
         return job_id
 
     @rule(data=st.data(), role=st.sampled_from(ROLES_LEAD_FIRST))
@@ -193,32 +215,30 @@ class ShopRules(RuleBasedStateMachine):
             else st.sampled_from(JobState.values),
             label="to_state",
         )
-        self.move(job, to_state, role, data.draw(st.sampled_from(APPROVERS), label="approver"))
+        reason = data.draw(st.sampled_from(HOLD_REASONS), label="hold_reason")
+        self.move(job, to_state, role, reason)
 
-    def move(self, job: int, to_state: str, role: str, approved_by: str) -> None:
+    def move(self, job: int, to_state: str, role: str, hold_reason: str) -> None:
         model = self.job_model[job]
         response = self.client(role).post(
             f"/api/jobs/{job}/transition/",
-            {"to_state": to_state, "approved_by": approved_by},
+            {"to_state": to_state, "hold_reason": hold_reason},
             format="json",
-        )
-        needs_approval = (
-            model["state"] == JobState.AWAITING_APPROVAL
-            and to_state == JobState.REPAIRING
-            and not (approved_by or model["approved"])
         )
         if to_state not in allowed_targets(model["state"], model["held_from"]):
             self.refused(response, 409, "illegal_move")
-        elif not role_may_move_to(frozenset({role}), to_state):
+        elif not role_may_move_to(frozenset({role}), to_state, model["state"]):
             self.refused(response, 403)
-        elif needs_approval:
-            self.refused(response, 400, "approval_required")
+        elif (to_state == JobState.ON_HOLD) != bool(hold_reason):
+            self.refused(response, 400)
+        elif to_state in NEEDS_APPROVAL and not model["approved"]:
+            self.refused(response, 409, "approval_required")
         elif to_state == JobState.READY and self.not_ready(job):
             self.refused(response, 409, self.not_ready(job))
         else:
             assert response.status_code == 200, response.content
-            if model["state"] == JobState.AWAITING_APPROVAL and to_state == JobState.REPAIRING:
-                model["approved"] = True
+            if to_state == JobState.AWAITING_APPROVAL:
+                model["approved"] = False
             model["held_from"] = model["state"] if to_state == JobState.ON_HOLD else ""
             model["state"] = to_state
             self.count("moved")
@@ -234,6 +254,57 @@ class ShopRules(RuleBasedStateMachine):
             return "no_closed_test"
         latest = max(tests, key=lambda t: t["closing"])
         return None if latest["verdict"][0] == "pass" else "latest_test_not_passed"
+
+    @rule(data=st.data(), role=st.sampled_from(ROLES_LEAD_FIRST))
+    def approve_job(self, data, role):
+        # Mostly a job that awaits its approval, so that approvals happen often enough.
+        waiting = sorted(
+            job for job, m in self.job_model.items() if m["state"] == JobState.AWAITING_APPROVAL
+        )
+        if waiting and data.draw(st.integers(0, 9), label="prefer_waiting") < 8:
+            job = data.draw(st.sampled_from(waiting), label="job")
+        else:
+            job = self.pick_job(data)
+        self.approve(job, role)
+
+    def approve(self, job: int, role: str) -> None:
+        model = self.job_model[job]
+        response = self.client(role).post(
+            f"/api/jobs/{job}/approve/", {"method": "phone"}, format="json"
+        )
+        if role not in DESK_ROLES:
+            self.refused(response, 403)
+        elif model["state"] != JobState.AWAITING_APPROVAL:
+            self.refused(response, 409, "not_awaiting_approval")
+        else:
+            assert response.status_code == 200, response.content
+            model.update(state=JobState.REPAIRING, approved=True)
+            self.count("approved")
+
+    @rule(data=st.data(), role=st.sampled_from(ROLES_LEAD_FIRST))
+    def raise_estimate(self, data, role):
+        """The misuse path: a raised estimate must not ride on the old approval."""
+        job = self.pick_job(data)
+        model = self.job_model[job]
+        figure = model["estimate"] + 10
+        response = self.client(role).patch(
+            f"/api/jobs/{job}/", {"estimate": f"{figure}.00"}, format="json"
+        )
+        if role not in DESK_ROLES:
+            self.refused(response, 403)
+            return
+        if model["approved"] and model["state"] in ESTIMATE_SETTLED_STATES:
+            self.refused(response, 409, "estimate_settled")
+            return
+        assert response.status_code == 200, response.content
+        model["estimate"] = figure
+        if model["approved"]:
+            model["approved"] = False
+            if model["state"] in REAPPROVAL_STATES:
+                model["state"] = JobState.AWAITING_APPROVAL
+            elif model["held_from"] in REAPPROVAL_STATES:
+                model["held_from"] = JobState.AWAITING_APPROVAL
+        self.count("estimate raised")
 
     # Power-up tests ---------------------------------------------------------------------
 

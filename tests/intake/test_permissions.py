@@ -41,7 +41,7 @@ def body_for(name, r):
             "rated_voltage": "230",
             "rated_power": "45",
         },
-        "unit_update": {"condition_notes": "dust inside"},
+        "unit_update": {"model_name": "Console 7B"},
         "job_create": {"unit": r["unit"].pk, "complaint": "Crackles"},
         "job_update": {"complaint": "Crackles, then silence"},
         "job_transition": {"to_state": "diagnosing"},

@@ -46,7 +46,7 @@ def test_a_stale_write_is_refused_with_412_and_never_lands(customer, client_for)
 
 def test_a_write_without_if_match_is_accepted(unit, client_for):
     response = client_for("technician").patch(
-        f"/api/units/{unit.pk}/", {"condition_notes": "cracked dial glass"}, format="json"
+        f"/api/units/{unit.pk}/", {"model_name": "Console 7B"}, format="json"
     )
     assert response.status_code == 200
     assert response.json()["version"] == unit.version + 1
@@ -54,7 +54,7 @@ def test_a_write_without_if_match_is_accepted(unit, client_for):
 
 def test_a_malformed_if_match_is_a_400_naming_the_header(unit, client_for):
     response = client_for("lead").patch(
-        f"/api/units/{unit.pk}/", {"condition_notes": "x"}, format="json", HTTP_IF_MATCH="banana"
+        f"/api/units/{unit.pk}/", {"model_name": "x"}, format="json", HTTP_IF_MATCH="banana"
     )
     assert response.status_code == 400
     assert response.json()["error"]["field"] == "If-Match"

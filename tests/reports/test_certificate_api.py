@@ -264,3 +264,71 @@ def selectors_snapshot(certificate):
     import json
 
     return json.loads(certificate.snapshot)
+
+
+@pytest.mark.parametrize(
+    "typed",
+    [
+        lambda code: code.replace("-", ""),
+        lambda code: code.lower(),
+        lambda code: " ".join(code.replace("-", "").lower()),
+        lambda code: code.replace("O", "0").replace("I", "1").replace("B", "8"),
+    ],
+    ids=["without dashes", "lower case", "spaced lower case", "digits for look-alike letters"],
+)
+def test_verification_accepts_the_code_as_people_type_it(certificate, client_for, typed):
+    response = client_for(None).get(
+        f"/verify/{certificate.number.lower()}/",
+        {"code": typed(certificate.verification_code), "format": "json"},
+    )
+    assert response.status_code == 200, response.content
+    assert response.json()["number"] == certificate.number
+
+
+def test_a_code_missing_one_letter_still_matches_nothing(certificate, client_for):
+    plain = certificate.verification_code.replace("-", "")
+    response = client_for(None).get(
+        f"/verify/{certificate.number}/", {"code": plain[:-1], "format": "json"}
+    )
+    assert response.status_code == 404
+
+
+def test_verify_without_a_number_offers_a_form_without_script(client_for, db):
+    response = client_for(None).get("/verify/")
+    assert response.status_code == 200
+    page = response.content.decode()
+    assert '<form method="get" action="/verify/">' in page
+    assert 'name="number"' in page and 'name="code"' in page
+    assert "<script" not in page
+
+
+def test_the_verify_form_sends_the_browser_to_the_answer(certificate, client_for):
+    anonymous = client_for(None)
+    response = anonymous.get(
+        "/verify/", {"number": certificate.number, "code": certificate.verification_code}
+    )
+    assert response.status_code == 302
+    answer = anonymous.get(response["Location"], HTTP_ACCEPT="text/html")
+    assert answer.status_code == 200
+    assert f"Certificate {certificate.number}: valid" in answer.content.decode()
+
+
+def test_the_verify_form_with_one_half_missing_asks_again(client_for, db):
+    response = client_for(None).get("/verify/", {"number": "C-2026-0001"})
+    assert response.status_code == 200
+    assert "Give both the certificate number and its code." in response.content.decode()
+
+
+def test_a_revoked_certificates_pdf_is_refused_with_410(certificate, client_for):
+    lead = client_for("lead")
+    assert lead.get(f"/api/certificates/{certificate.pk}/pdf/").status_code == 200
+    revoked = lead.post(
+        f"/api/certificates/{certificate.pk}/revoke/", {"reason": "Wrong unit"}, format="json"
+    )
+    assert revoked.status_code == 200, revoked.content
+    for role in ("lead", "technician", "front_desk"):
+        response = client_for(role).get(f"/api/certificates/{certificate.pk}/pdf/")
+        assert response.status_code == 410
+        error = response.json()["error"]
+        assert error["code"] == "certificate_revoked"
+        assert certificate.number in error["message"]

@@ -56,7 +56,9 @@ def test_a_job_without_a_closed_test_cannot_be_certified(open_test, staff):
 def test_a_job_before_testing_cannot_be_certified(closed_test, staff):
     from shop.intake import services as intake
 
-    intake.job_transition(job=closed_test.job, to_state="on_hold", actor=staff["lead"])
+    intake.job_transition(
+        job=closed_test.job, to_state="on_hold", actor=staff["lead"], hold_reason="other", note="x"
+    )
     with pytest.raises(Conflict) as caught:
         issue(closed_test, staff)
     assert caught.value.code == "job_not_certifiable"

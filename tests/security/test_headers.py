@@ -136,6 +136,7 @@ def test_production_adds_hsts_and_sends_plain_http_to_https():
         "DJANGO_SETTINGS_MODULE": "shop.settings.production",
         "SECRET_KEY": "a-long-random-production-secret-" + "x7Kq2" * 10,
         "ALLOWED_HOSTS": "testserver",
+        "SHOP_PUBLIC_URL": "https://bench.example.org",
     }
     result = subprocess.run(
         [sys.executable, "-c", script],

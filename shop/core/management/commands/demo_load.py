@@ -17,7 +17,7 @@ from reports.services import CERTIFIABLE_STATES, certificate_issue
 from reports.snapshot import verification_url
 from shop.bench.demo import load_demo_bench
 from shop.intake import services
-from shop.intake.models import Customer, Job
+from shop.intake.models import Customer, Job, JobState
 
 DEMO_DIR = Path(settings.BASE_DIR) / "fixtures" / "demo"
 # Local demo only: every demo account shares this password, printed at load time.
@@ -38,7 +38,11 @@ class Command(BaseCommand):
             with transaction.atomic():
                 units, after_bench = self.load_records(data, staff)
                 tests = load_demo_bench(bench, staff, units)
-                self.finish_moves(after_bench, lead=self.lead_of(data, staff))
+                self.finish_moves(
+                    after_bench,
+                    desk=self.staff_in("front_desk", data, staff),
+                    lead=self.staff_in("lead", data, staff),
+                )
             self.stdout.write(
                 f"Loaded {len(data['customers'])} customers, {len(data['units'])} units, "
                 f"{len(data['jobs'])} jobs, {len(bench['rigs'])} rigs and "
@@ -81,9 +85,26 @@ class Command(BaseCommand):
             staff[person["username"]] = user
         return staff
 
+    def move(self, job: Job, target: str, entry: dict, *, desk, lead) -> Job:
+        """One move of the demo route; the desk records the customer's answer to the estimate."""
+        answered = entry.get("answered", "phone")
+        if job.state == JobState.AWAITING_APPROVAL and target == JobState.REPAIRING:
+            return services.job_approve(job=job, actor=desk, method=answered)
+        if job.state == JobState.AWAITING_APPROVAL and target == JobState.DECLINED:
+            return services.job_decline(job=job, actor=desk, method=answered)
+        if target == JobState.ON_HOLD:
+            hold = entry["hold"]
+            return services.job_transition(
+                job=job, to_state=target, actor=desk, hold_reason=hold["reason"], note=hold["note"]
+            )
+        ready_override = entry.get("ready_override", "") if target == JobState.READY else ""
+        return services.job_transition(
+            job=job, to_state=target, actor=lead, ready_override=ready_override
+        )
+
     def load_records(self, data: dict, staff: dict[str, User]) -> dict:
-        lead = self.lead_of(data, staff)
-        desk = next(staff[p["username"]] for p in data["staff"] if p["role"] == "front_desk")
+        lead = self.staff_in("lead", data, staff)
+        desk = self.staff_in("front_desk", data, staff)
         customers = {}
         for entry in data["customers"]:
             fields = {k: v for k, v in entry.items() if k != "key"}
@@ -104,6 +125,7 @@ class Command(BaseCommand):
                 received_on=today - timedelta(days=entry["days_ago"]),
                 assigned_technician=staff.get(entry.get("technician")),
                 estimate=entry.get("estimate"),
+                condition_at_intake=entry.get("condition_at_intake", ""),
             )
             for step in entry["steps"]:
                 services.repair_step_add(
@@ -117,23 +139,18 @@ class Command(BaseCommand):
             # Ready comes after the bench: the readiness gate reads the job's tests.
             cut = route.index("ready") if "ready" in route else len(route)
             for target in route[:cut]:
-                job = services.job_transition(
-                    job=job, to_state=target, actor=lead, approved_by="Customer, by phone"
-                )
+                job = self.move(job, target, entry, desk=desk, lead=lead)
             if route[cut:]:
-                after_bench.append((job, route[cut:], entry.get("ready_override", "")))
+                after_bench.append((job, route[cut:], entry))
         return units, after_bench
 
     @staticmethod
-    def lead_of(data: dict, staff: dict[str, User]) -> User:
-        return next(staff[p["username"]] for p in data["staff"] if p["role"] == "lead")
+    def staff_in(role: str, data: dict, staff: dict[str, User]) -> User:
+        return next(staff[p["username"]] for p in data["staff"] if p["role"] == role)
 
-    @staticmethod
-    def finish_moves(after_bench: list, *, lead: User) -> None:
+    def finish_moves(self, after_bench: list, *, desk: User, lead: User) -> None:
         """The moves from testing on, once the jobs' power-up tests are closed."""
-        for job, route, ready_override in after_bench:
+        for job, route, entry in after_bench:
             job.refresh_from_db()
             for target in route:
-                job = services.job_transition(
-                    job=job, to_state=target, actor=lead, ready_override=ready_override
-                )
+                job = self.move(job, target, entry, desk=desk, lead=lead)
