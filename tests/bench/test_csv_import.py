@@ -9,9 +9,10 @@ from shop.bench.csv_import import COLUMNS, parse_readings
 from shop.bench.serializers import ReadingSerializer
 from shop.core.errors import ApplicationError
 
-HEADER = "source_v,dial_pct,load_v,current_a,glow,behaviour,held_s,bypassed,since_on_s\n"
+HEADER = ",".join(COLUMNS) + "\n"
 GOOD = {
     "source_v": "60",
+    "source_point": "rig_output",
     "dial_pct": "",
     "load_v": "55",
     "current_a": "0.2",
@@ -61,6 +62,7 @@ BAD_CELLS = [
     ("behaviour", "wobbly"),
     ("held_s", "86401"),
     ("since_on_s", "x"),
+    ("source_point", "at_the_wall"),
 ]
 
 
