@@ -19,7 +19,7 @@ from .signing import certificate_signature_problem
 
 # Compared against when no certificate has the number: as long as a real code (24 letters in
 # groups of 5), and made of a character no verifier can type.
-UNKNOWN_NUMBER_CODE = "\x00" * 28
+UNKNOWN_NUMBER_CODE = "\x00" * 24
 NEXT_STEPS = (
     "A technician inspects the unit and tells you what is wrong and what the repair will cost.",
     "Nothing is repaired without your approval.",

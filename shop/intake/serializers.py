@@ -281,6 +281,14 @@ class JobTransitionSerializer(serializers.Serializer):
         default="",
         help_text="Why the job is held (needed to move to on_hold; 'other' needs a note).",
     )
+    ready_override = serializers.CharField(
+        max_length=2000,
+        required=False,
+        allow_blank=True,
+        default="",
+        help_text="A lead's reason to move to ready although the latest closed power-up test "
+        "did not pass (kept on the job and printed on its certificate).",
+    )
 
 
 class CustomerAnswerSerializer(serializers.Serializer):
@@ -311,14 +319,6 @@ class JobApprovalSerializer(CustomerAnswerSerializer):
         allow_null=True,
         default=None,
         help_text="The figure the customer approved; refused (409) unless it is the job's.",
-    )
-    ready_override = serializers.CharField(
-        max_length=2000,
-        required=False,
-        allow_blank=True,
-        default="",
-        help_text="A lead's reason to move to ready although the latest closed power-up test "
-        "did not pass (kept on the job and printed on its certificate).",
     )
 
 

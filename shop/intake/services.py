@@ -323,7 +323,7 @@ def _move(
     changes = {**(changes or {}), "state": to_state}
     if to_state == JobState.READY and locked.state not in UNREPAIRED_STATES:
         changes.update(_readiness(locked, actor, ready_override))
-    elif ready_override:
+    elif ready_override and to_state != JobState.READY:
         raise ApplicationError(
             "A ready override goes only with a move to ready.", field="ready_override"
         )

@@ -14,6 +14,7 @@ from shop.core.models import AuditEvent
 from shop.intake import services as intake
 from shop.intake.models import Unit
 from tests.fixtures_bench import HEALTHY_60W_READINGS, make_lamp
+from tests.jobs import walk
 
 REASON = "Opened up on the bench: a proper isolating mains transformer, checked by meter."
 
@@ -35,10 +36,7 @@ def hot_unit(customer, staff):
 @pytest.fixture
 def hot_job(hot_unit, staff):
     job = intake.job_create(actor=staff["front_desk"], unit=hot_unit, complaint="Dead")
-    for target in ("diagnosing", "awaiting_approval", "repairing", "testing"):
-        job = intake.job_transition(
-            job=job, to_state=target, actor=staff["lead"], approved_by="Customer by phone"
-        )
+    job = walk(job, ("diagnosing", "awaiting_approval", "repairing", "testing"), staff["lead"])
     return job
 
 
@@ -102,7 +100,9 @@ def test_once_powered_up_a_nameplate_change_is_a_leads_act(open_test, client_for
     assert response.status_code == 403
     assert response.json()["error"]["field"] == "rated_power"
     # Notes and other non-rule fields stay open to every role.
-    assert patch_unit(client_for("technician"), unit, condition_notes="Dusty").status_code == 200
+    assert (
+        patch_unit(client_for("technician"), unit, model_name="Console 7 (late)").status_code == 200
+    )
 
 
 def test_a_test_shows_the_facts_it_was_opened_with_after_the_unit_changes(

@@ -11,6 +11,7 @@ from reports.selectors import snapshot_of
 from shop.bench import services as bench
 from shop.intake import services as intake
 from tests.fixtures_bench import HEALTHY_60W_READINGS, make_lamp
+from tests.jobs import walk
 
 OVERRIDE = "Unit strapped for 230 V on the bench, confirmed at the transformer primary."
 NO_OUTPUT_LOAD = "no output load is declared"
@@ -208,10 +209,7 @@ def test_the_output_load_warning_reaches_the_verdict_and_the_certificate(
     customer, staff, rig, lamps
 ):
     job = valve_amplifier(customer, staff)
-    for target in ("diagnosing", "awaiting_approval", "repairing", "testing"):
-        job = intake.job_transition(
-            job=job, to_state=target, actor=staff["lead"], approved_by="By phone"
-        )
+    job = walk(job, ("diagnosing", "awaiting_approval", "repairing", "testing"), staff["lead"])
     test = bench.powerup_open(
         job=job,
         rig=rig,

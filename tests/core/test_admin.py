@@ -22,6 +22,7 @@ RIG_FORM = {
     "source_kind": "fixed_mains",
     "source_current_rating": "5",
     "internal_resistance": "1.5",
+    "builtin_meter_point": "rig_output",
 }
 
 

@@ -179,6 +179,7 @@ def test_evidence_is_refused_on_a_returned_job(job, client_for, staff):
         job,
         ["diagnosing", "awaiting_approval", "repairing", "testing", "ready", "returned"],
         staff["lead"],
+        ready_override="Evidence test: no power-up test belongs to this job.",
     )
     response = upload(client_for("technician"), job, "late.png", PNG)
     assert response.status_code == 409

@@ -12,6 +12,7 @@ from shop.bench import services as bench
 from shop.intake import services as intake
 from shop.intake.models import JobState
 from tests.fixtures_bench import HEALTHY_60W_READINGS
+from tests.jobs import walk
 
 # A shorted unit: the lamp takes nearly all the source and glows bright.
 SHORTED = [
@@ -128,10 +129,7 @@ def test_job_and_test_lists_cost_the_same_queries_for_more_rows(
     few = (_list_queries(client, "/api/jobs/"), _list_queries(client, "/api/powerups/"))
     for _ in range(3):
         job = intake.job_create(actor=staff["front_desk"], unit=unit, complaint="Again")
-        for target in ("diagnosing", "awaiting_approval", "repairing", "testing"):
-            job = intake.job_transition(
-                job=job, to_state=target, actor=staff["lead"], approved_by="By phone"
-            )
+        job = walk(job, ("diagnosing", "awaiting_approval", "repairing", "testing"), staff["lead"])
         judged(job, rig, lamps[60], staff, SHORTED)
     many = (_list_queries(client, "/api/jobs/"), _list_queries(client, "/api/powerups/"))
     assert many == few

@@ -5,7 +5,7 @@ from django.db import migrations, models
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("bench", "0001_initial"),
+        ("bench", "0002_powerup_frozen_facts"),
     ]
 
     operations = [

@@ -71,7 +71,7 @@ def revoke(apps, schema_editor):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("core", "0002_audit_event"),
+        ("core", "0004_shared_cache_table"),
         ("auth", "0012_alter_user_first_name_max_length"),
         ("contenttypes", "0002_remove_content_type_name"),
         ("intake", "0002_customer_decisions_and_hold_reasons"),

@@ -6,7 +6,7 @@ from django.db import migrations, models
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("intake", "0001_initial"),
+        ("intake", "0006_unit_selector_job_ready_override"),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 

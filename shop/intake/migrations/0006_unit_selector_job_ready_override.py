@@ -10,7 +10,7 @@ from django.db import migrations, models
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("intake", "0001_initial"),
+        ("intake", "0005_nameplate_may_be_illegible"),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 
