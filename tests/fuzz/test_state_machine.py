@@ -261,6 +261,12 @@ class ShopRules(RuleBasedStateMachine):
         waiting = sorted(
             job for job, m in self.job_model.items() if m["state"] == JobState.AWAITING_APPROVAL
         )
+        if not waiting and data.draw(st.integers(0, 9), label="quote_a_new_job") < 5:
+            # A fresh job walked to its estimate, so runs that never got there answer one too.
+            job = self.new_job()
+            for target in (JobState.DIAGNOSING, JobState.AWAITING_APPROVAL):
+                self.move(job, target, LEAD, hold_reason="")
+            waiting = [job]
         if waiting and data.draw(st.integers(0, 9), label="prefer_waiting") < 8:
             job = data.draw(st.sampled_from(waiting), label="job")
         else:
