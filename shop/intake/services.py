@@ -345,7 +345,8 @@ def _move(
 
 
 def _lock(job: Job, expected_version: int | None) -> Job:
-    locked = Job.objects.select_for_update().select_related("approval").get(pk=job.pk)
+    # Lock the job row alone: PostgreSQL refuses FOR UPDATE on the nullable side of a join.
+    locked = Job.objects.select_for_update(of=("self",)).select_related("approval").get(pk=job.pk)
     check_version(locked, expected_version)
     return locked
 
